@@ -36,3 +36,25 @@ pub trait MetricKernels<T: Scalar, const N: usize> {
     /// writes as many as `out` holds.
     fn invariants(&self, x: &[T; N], u: &[T; N], out: &mut [T]);
 }
+
+/// Operation counts of one generated kernel after common-subexpression elimination.
+///
+/// A sine and cosine of the same argument count as one call (they are computed together).
+#[derive(Clone, Copy, PartialEq, Eq, Hash, Debug, Default)]
+pub struct OpCount {
+    /// Additions, subtractions and negations.
+    pub add: u32,
+    /// Multiplications.
+    pub mul: u32,
+    /// Divisions.
+    pub div: u32,
+    /// Calls of square roots and elementary functions.
+    pub call: u32,
+}
+
+impl OpCount {
+    /// All operations together.
+    pub const fn total(&self) -> u32 {
+        self.add + self.mul + self.div + self.call
+    }
+}

@@ -8,5 +8,5 @@
 mod kernels;
 mod scalar;
 
-pub use kernels::MetricKernels;
+pub use kernels::{MetricKernels, OpCount};
 pub use scalar::Scalar;

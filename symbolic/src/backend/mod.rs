@@ -1,0 +1,3 @@
+//! Printers of kernel programs: one module per target language.
+
+pub mod rust;

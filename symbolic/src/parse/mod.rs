@@ -1,0 +1,111 @@
+//! Reading metric declarations: tokens or text in, a checked [`ast::File`] out.
+//!
+//! The proc macro hands over its tokens ([`parse_tokens`]); the command-line tool hands over
+//! the text of a `.gk` file ([`parse_str`]). Both go through the same parser
+//! ([`syntax`](self::syntax)) and the same checks ([`validate`](self::validate)), so a
+//! declaration means the same thing, and fails with the same messages, in both.
+//!
+//! ```
+//! use geokern_symbolic::parse::{self, ast::{Item, Tensor}};
+//!
+//! let file = parse::parse_str(
+//!     "/// Flat space in polar coordinates.
+//!      pub struct Polar {
+//!          coords: [r, phi],
+//!          g[r, r] = 1;
+//!          g[phi, phi] = r.powi(2);
+//!      }",
+//! )
+//! .unwrap();
+//! let polar = &file.metrics[0];
+//! assert_eq!(polar.docs, ["Flat space in polar coordinates."]);
+//! assert_eq!(polar.dim(), 2);
+//! let components: Vec<String> = polar
+//!     .components(Tensor::Metric)
+//!     .map(|(i, j, value)| format!("g[{i}, {j}] = {value}"))
+//!     .collect();
+//! assert_eq!(components, ["g[0, 0] = 1", "g[1, 1] = r.powi(2)"]);
+//!
+//! let error = parse::parse_str("struct Bad { coords: [x], g[x, x] = y; }").unwrap_err();
+//! assert_eq!(
+//!     error.render("bad.gk"),
+//!     "bad.gk:1:37: unknown identifier `y`; coordinates are x"
+//! );
+//! ```
+
+pub mod ast;
+pub mod diagnostic;
+mod syntax;
+mod validate;
+
+#[cfg(test)]
+mod tests;
+
+use std::str::FromStr;
+
+use proc_macro2::TokenStream;
+
+pub use diagnostic::{Diagnostic, Diagnostics};
+
+/// Deepest nesting accepted, both of brackets and of operators inside one expression.
+/// Parsing is recursive, so a bound turns absurd input into an error instead of a stack
+/// overflow.
+pub const MAX_NESTING: usize = 256;
+
+/// Highest expression tree accepted (a sum of 1000 terms is 1000 high). Later stages walk
+/// trees recursively; a longer formula can be split with `let` lines.
+pub const MAX_EXPR_HEIGHT: usize = 1024;
+
+/// Most coordinates a metric may have.
+pub const MAX_COORDS: usize = 16;
+
+/// Parses and checks a declaration given as tokens (the body of `geokern::metric! { .. }`).
+///
+/// On failure, every error found is returned, in source order, each at the token it blames.
+pub fn parse_tokens(tokens: TokenStream) -> Result<ast::File, Diagnostics> {
+    let mut errors = diagnostic::Collector::default();
+    let raw = syntax::parse_file(tokens, &mut errors);
+    let file = validate::validate(raw, &mut errors);
+    match errors.into_diagnostics() {
+        None => Ok(file),
+        Some(mut diagnostics) => {
+            diagnostics.sort_by_position();
+            Err(diagnostics)
+        }
+    }
+}
+
+/// Parses and checks a declaration given as text (a `.gk` file: one or more `struct` blocks).
+///
+/// Lines and columns of the returned diagnostics count from the start of `source`. Text that
+/// does not even split into tokens (an unclosed bracket, a stray character) is reported the
+/// same way.
+pub fn parse_str(source: &str) -> Result<ast::File, Diagnostics> {
+    match TokenStream::from_str(source) {
+        Ok(tokens) => parse_tokens(tokens),
+        Err(error) => Err(Diagnostics::new(lex_diagnostic(source, &error))),
+    }
+}
+
+/// Names the problem at the place where the tokenizer gave up.
+fn lex_diagnostic(source: &str, error: &proc_macro2::LexError) -> Diagnostic {
+    let span = error.span();
+    let start = span.start();
+    let offending = source
+        .split('\n')
+        .nth(start.line.saturating_sub(1))
+        .and_then(|line| line.chars().nth(start.column));
+    let message = match offending {
+        Some(c @ ('(' | '[' | '{')) => format!("unclosed delimiter `{c}`"),
+        Some(c @ (')' | ']' | '}')) => format!("mismatched or unbalanced closing delimiter `{c}`"),
+        Some('"') => "unterminated string literal (strings are not used in declarations)".into(),
+        Some('\'') => "unterminated character literal".into(),
+        Some(c) if c.is_ascii_digit() => "malformed number literal".into(),
+        Some(c) if c.is_whitespace() || c.is_control() => {
+            format!("unexpected character {c:?}")
+        }
+        Some(c) => format!("unexpected character `{c}`"),
+        None => "unexpected end of text".into(),
+    };
+    Diagnostic::new(span, message)
+}
