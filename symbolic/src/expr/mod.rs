@@ -38,6 +38,11 @@ impl ExprId {
     pub fn index(self) -> usize {
         self.0 as usize
     }
+
+    /// The id at a position of its store (for walks over every node in order).
+    pub fn from_index(i: usize) -> ExprId {
+        ExprId(i as u32)
+    }
 }
 
 /// Elementary functions of one argument. Square roots are powers with exponent 1/2.

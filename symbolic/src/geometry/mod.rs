@@ -233,10 +233,11 @@ fn lowered_accel(s: &mut Store, dg: &[Vec<Vec<ExprId>>], u: &[ExprId]) -> Vec<Ex
         .collect()
 }
 
-/// −g^ad w_d.
+/// −g^ad w_d, negating w before raising: −w_d keeps a positive term where w_d had a negative
+/// one, so the sign costs nothing, whereas negating the raised sum costs one op a component.
 fn raise_negated(s: &mut Store, inverse: &[Vec<ExprId>], w: &[ExprId]) -> Vec<ExprId> {
-    let raised = contract(s, inverse, w);
-    raised.into_iter().map(|e| s.neg(e)).collect()
+    let minus_w: Vec<ExprId> = w.iter().map(|&e| s.neg(e)).collect();
+    contract(s, inverse, &minus_w)
 }
 
 /// (M·v)_a = Σ_b M_ab v_b, skipping structural zeros.

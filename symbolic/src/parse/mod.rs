@@ -47,14 +47,14 @@ use proc_macro2::TokenStream;
 
 pub use diagnostic::{Diagnostic, Diagnostics};
 
-/// Deepest nesting accepted, both of brackets and of operators inside one expression.
-/// Parsing is recursive, so a bound turns absurd input into an error instead of a stack
-/// overflow.
-pub const MAX_NESTING: usize = 256;
+/// Deepest bracket nesting accepted. Parsing recurses into brackets, so a bound turns absurd
+/// input into an error instead of a stack overflow; no hand-written metric comes near it.
+pub const MAX_NESTING: usize = 128;
 
-/// Highest expression tree accepted (a sum of 1000 terms is 1000 high). Later stages walk
-/// trees recursively; a longer formula can be split with `let` lines.
-pub const MAX_EXPR_HEIGHT: usize = 1024;
+/// Highest expression tree accepted (a sum of 500 terms is 500 high). Checking, and every
+/// later stage, walks trees recursively; the bound keeps that within a 2 MiB thread stack
+/// even in debug builds. A longer formula can be split with `let` lines.
+pub const MAX_EXPR_HEIGHT: usize = 512;
 
 /// Most coordinates a metric may have.
 pub const MAX_COORDS: usize = 16;

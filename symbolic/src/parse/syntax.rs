@@ -114,10 +114,10 @@ pub(crate) enum RawExpr {
     },
     /// A name or a path such as `std::f64::consts::PI`.
     Path { segments: Vec<Ident>, span: Span },
-    /// `base[index]`.
+    /// `base[index, ..]` (only `u[X]` and `p[X]` are valid; the checker says so).
     Index {
         base: Ident,
-        index: RawIndex,
+        indices: Vec<RawIndex>,
         span: Span,
     },
     Neg {
@@ -324,7 +324,8 @@ fn split_docs(attrs: Vec<syn::Attribute>) -> (Vec<String>, Vec<syn::Attribute>) 
     let mut rest = Vec::new();
     for attr in attrs {
         if let Some(text) = doc_text(&attr) {
-            docs.extend(text.lines().map(|line| line.trim().to_string()));
+            // `split`, not `lines`: an empty `///` line is a paragraph break worth keeping.
+            docs.extend(text.split('\n').map(|line| line.trim().to_string()));
         } else {
             rest.push(attr);
         }
@@ -544,85 +545,66 @@ pub(crate) fn expression(input: ParseStream) -> syn::Result<RawExpr> {
     ExprParser { depth: 0 }.expr(input)
 }
 
-/// Recursive descent with Rust's precedences for the subset we accept:
-/// `sum := product (('+' | '-') product)*`, `product := unary (('*' | '/') unary)*`,
-/// `unary := '-' unary | postfix`, `postfix := primary ('.' method '(' args ')')*`.
+/// Rust's precedences for the subset we accept:
+/// `expr := operand (('+' | '-' | '*' | '/') operand)*` with `*` and `/` binding tighter,
+/// `operand := '-'* postfix`, `postfix := primary ('.' method '(' args ')')*`,
+/// `primary := number | path | path '(' args ')' | name '[' index ']' | '(' expr ')'`.
+///
+/// Operator chains and prefix minuses are handled with explicit stacks, so the parser only
+/// recurses into brackets; that keeps stack use per level small and bounded by
+/// [`MAX_NESTING`].
 struct ExprParser {
     depth: usize,
 }
 
 impl ExprParser {
-    fn enter(&mut self, span: Span) -> syn::Result<()> {
+    fn expr(&mut self, input: ParseStream) -> syn::Result<RawExpr> {
         self.depth += 1;
         if self.depth > MAX_NESTING {
             return Err(syn::Error::new(
-                span,
+                input.span(),
                 format!("expression nested too deeply (more than {MAX_NESTING} levels)"),
             ));
         }
-        Ok(())
-    }
-
-    fn leave(&mut self) {
+        let result = self.operator_chain(input);
         self.depth -= 1;
-    }
-
-    fn expr(&mut self, input: ParseStream) -> syn::Result<RawExpr> {
-        self.enter(input.span())?;
-        let result = self.sum(input);
-        self.leave();
         let expr = result?;
         reject_unsupported_operator(input)?;
         Ok(expr)
     }
 
-    fn sum(&mut self, input: ParseStream) -> syn::Result<RawExpr> {
-        let mut lhs = self.product(input)?;
-        loop {
-            let op = if input.peek(Token![+]) && !input.peek(Token![+=]) {
-                BinaryOp::Add
-            } else if input.peek(Token![-]) && !input.peek(Token![-=]) && !input.peek(Token![->])
-            {
-                BinaryOp::Sub
-            } else {
-                return Ok(lhs);
-            };
+    /// Operator precedence by the shunting-yard method: operands and pending operators on
+    /// two stacks, reducing while the pending operator binds at least as tightly (all four
+    /// operators associate to the left).
+    fn operator_chain(&mut self, input: ParseStream) -> syn::Result<RawExpr> {
+        let mut operands = vec![self.operand(input)?];
+        let mut operators: Vec<(BinaryOp, Span)> = Vec::new();
+        while let Some(op) = peek_binary_operator(input) {
             let op_span = op_token(input)?;
-            let rhs = self.product(input)?;
-            lhs = binary(op, lhs, rhs, op_span)?;
+            while let Some(&(pending, _)) = operators.last() {
+                if binding(pending) < binding(op) {
+                    break;
+                }
+                reduce(&mut operands, &mut operators)?;
+            }
+            operators.push((op, op_span));
+            operands.push(self.operand(input)?);
         }
+        while !operators.is_empty() {
+            reduce(&mut operands, &mut operators)?;
+        }
+        operands
+            .pop()
+            .ok_or_else(|| input.error("expected an expression"))
     }
 
-    fn product(&mut self, input: ParseStream) -> syn::Result<RawExpr> {
-        let mut lhs = self.unary(input)?;
-        loop {
-            let op = if input.peek(Token![*]) && !input.peek(Token![*=]) {
-                BinaryOp::Mul
-            } else if input.peek(Token![/]) && !input.peek(Token![/=]) {
-                BinaryOp::Div
-            } else {
-                return Ok(lhs);
-            };
-            let op_span = op_token(input)?;
-            let rhs = self.unary(input)?;
-            lhs = binary(op, lhs, rhs, op_span)?;
-        }
-    }
-
-    fn unary(&mut self, input: ParseStream) -> syn::Result<RawExpr> {
-        if input.peek(Token![-]) {
+    /// Prefix minuses, then a postfix expression.
+    fn operand(&mut self, input: ParseStream) -> syn::Result<RawExpr> {
+        let mut minuses = Vec::new();
+        while input.peek(Token![-]) {
             let minus: Token![-] = input.parse()?;
-            self.enter(minus.span)?;
-            let arg = self.unary(input);
-            self.leave();
-            let arg = arg?;
-            let height = checked_height(arg.height() + 1, minus.span)?;
-            let span = join_spans(minus.span, arg.span(), minus.span);
-            return Ok(RawExpr::Neg {
-                arg: Box::new(arg),
-                span,
-                height,
-            });
+            checked_height(minuses.len() + 2, minus.span)?;
+            minuses.push(minus.span);
         }
         if input.peek(Token![*]) || input.peek(Token![^]) {
             return Err(input.error(
@@ -632,7 +614,17 @@ impl ExprParser {
         if input.peek(Token![+]) {
             return Err(input.error("unary `+` is not supported; remove it"));
         }
-        self.postfix(input)
+        let mut expr = self.postfix(input)?;
+        while let Some(minus) = minuses.pop() {
+            let height = checked_height(expr.height() + 1, minus)?;
+            let span = join_spans(minus, expr.span(), minus);
+            expr = RawExpr::Neg {
+                arg: Box::new(expr),
+                span,
+                height,
+            };
+        }
+        Ok(expr)
     }
 
     fn postfix(&mut self, input: ParseStream) -> syn::Result<RawExpr> {
@@ -738,20 +730,51 @@ impl ExprParser {
         if input.peek(token::Bracket) && segments.len() == 1 {
             let content;
             let brackets = bracketed!(content in input);
-            let idx = index(&content)?;
-            if !content.is_empty() {
-                return Err(content.error("expected `]`: one index, as in `u[r]`"));
-            }
+            let indices = Punctuated::<RawIndex, Token![,]>::parse_terminated_with(&content, index)?;
             let base = segments.remove(0);
             let span = join_spans(base.span(), brackets.span.close(), base.span());
             return Ok(RawExpr::Index {
                 base,
-                index: idx,
+                indices: indices.into_iter().collect(),
                 span,
             });
         }
         Ok(RawExpr::Path { segments, span })
     }
+}
+
+fn peek_binary_operator(input: ParseStream) -> Option<BinaryOp> {
+    if input.peek(Token![+]) && !input.peek(Token![+=]) {
+        Some(BinaryOp::Add)
+    } else if input.peek(Token![-]) && !input.peek(Token![-=]) && !input.peek(Token![->]) {
+        Some(BinaryOp::Sub)
+    } else if input.peek(Token![*]) && !input.peek(Token![*=]) {
+        Some(BinaryOp::Mul)
+    } else if input.peek(Token![/]) && !input.peek(Token![/=]) {
+        Some(BinaryOp::Div)
+    } else {
+        None
+    }
+}
+
+/// How tightly an operator binds: `*` and `/` before `+` and `-`.
+fn binding(op: BinaryOp) -> u8 {
+    match op {
+        BinaryOp::Add | BinaryOp::Sub => 1,
+        BinaryOp::Mul | BinaryOp::Div => 2,
+    }
+}
+
+/// Pops one operator and its two operands and pushes their combination.
+fn reduce(operands: &mut Vec<RawExpr>, operators: &mut Vec<(BinaryOp, Span)>) -> syn::Result<()> {
+    let (Some((op, op_span)), Some(rhs), Some(lhs)) =
+        (operators.pop(), operands.pop(), operands.pop())
+    else {
+        // The loop above pushes one operand per operator, plus the first.
+        return Ok(());
+    };
+    operands.push(binary(op, lhs, rhs, op_span)?);
+    Ok(())
 }
 
 fn op_token(input: ParseStream) -> syn::Result<Span> {

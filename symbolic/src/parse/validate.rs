@@ -9,7 +9,7 @@ use std::collections::BTreeMap;
 
 use proc_macro2::{Ident, Span};
 
-use super::ast::{Constant, Expr, File, Func, Item, MetricDecl, Tensor, VarKind, KNOWN_OPTIONS};
+use super::ast::{BinaryOp, Constant, Expr, File, Func, Item, MetricDecl, Tensor, VarKind, KNOWN_OPTIONS};
 use super::diagnostic::Collector;
 use super::syntax::{join_spans, ListKind, RawExpr, RawFile, RawIndex, RawStmt, RawStruct};
 use super::MAX_COORDS;
@@ -389,6 +389,9 @@ impl<'e> StructChecker<'e> {
 
     /// Resolves an expression; `None` after recording at least one error. Keeps going after
     /// an error so that every mistake in the expression is reported.
+    ///
+    /// Each kind of node has its own function so that this recursive one keeps a small
+    /// stack frame (trees may be up to [`super::MAX_EXPR_HEIGHT`] high).
     fn resolve(&mut self, expr: &RawExpr, context: Context) -> Option<Expr> {
         match expr {
             RawExpr::Number { value, span, .. } => Some(Expr::Number {
@@ -396,83 +399,112 @@ impl<'e> StructChecker<'e> {
                 span: *span,
             }),
             RawExpr::Path { segments, span } => self.resolve_path(segments, *span, context),
-            RawExpr::Index { base, index, span } => {
-                self.resolve_index(base, index, *span, context)
-            }
-            RawExpr::Neg { arg, span, .. } => {
-                let arg = self.resolve(arg, context)?;
-                Some(Expr::Neg {
-                    arg: Box::new(arg),
-                    span: *span,
-                })
-            }
+            RawExpr::Index {
+                base,
+                indices,
+                span,
+            } => self.resolve_index(base, indices, *span, context),
+            RawExpr::Neg { arg, span, .. } => self.resolve_neg(arg, *span, context),
             RawExpr::Binary {
                 op, lhs, rhs, span, ..
-            } => {
-                let lhs = self.resolve(lhs, context);
-                let rhs = self.resolve(rhs, context);
-                Some(Expr::Binary {
-                    op: *op,
-                    lhs: Box::new(lhs?),
-                    rhs: Box::new(rhs?),
-                    span: *span,
-                })
-            }
+            } => self.resolve_binary(*op, lhs, rhs, *span, context),
             RawExpr::Call {
                 path, args, span, ..
-            } => {
-                let name_span = join_spans(
-                    path[0].span(),
-                    path[path.len() - 1].span(),
-                    path[path.len() - 1].span(),
-                );
-                let func = self.function(path, name_span);
-                let resolved = self.resolve_all(args, context);
-                let func = func?;
-                if args.len() != func.arity() {
-                    self.errors.error(
-                        name_span,
-                        format!(
-                            "`{}` takes {}, found {}",
-                            func.name(),
-                            count(func.arity(), "argument"),
-                            args.len()
-                        ),
-                    );
-                    return None;
-                }
-                self.call(func, args, resolved?, *span)
-            }
+            } => self.resolve_call(path, args, *span, context),
             RawExpr::MethodCall {
                 receiver,
                 method,
                 args,
                 span,
                 ..
-            } => {
-                let receiver_resolved = self.resolve(receiver, context);
-                let func = self.method(method);
-                let resolved = self.resolve_all(args, context);
-                let func = func?;
-                if args.len() + 1 != func.arity() {
-                    self.errors.error(
-                        method.span(),
-                        format!(
-                            "method `{}` takes {}, found {}",
-                            func.name(),
-                            count(func.arity() - 1, "argument"),
-                            args.len()
-                        ),
-                    );
-                    return None;
-                }
-                let mut all_raw: Vec<&RawExpr> = vec![receiver];
-                all_raw.extend(args.iter());
-                let mut all = vec![receiver_resolved?];
-                all.extend(resolved?);
-                self.call_refs(func, &all_raw, all, *span)
-            }
+            } => self.resolve_method_call(receiver, method, args, *span, context),
         }
+    }
+
+    fn resolve_neg(&mut self, arg: &RawExpr, span: Span, context: Context) -> Option<Expr> {
+        let arg = self.resolve(arg, context)?;
+        Some(Expr::Neg {
+            arg: Box::new(arg),
+            span,
+        })
+    }
+
+    fn resolve_binary(
+        &mut self,
+        op: BinaryOp,
+        lhs: &RawExpr,
+        rhs: &RawExpr,
+        span: Span,
+        context: Context,
+    ) -> Option<Expr> {
+        let lhs = self.resolve(lhs, context);
+        let rhs = self.resolve(rhs, context);
+        Some(Expr::Binary {
+            op,
+            lhs: Box::new(lhs?),
+            rhs: Box::new(rhs?),
+            span,
+        })
+    }
+
+    fn resolve_call(
+        &mut self,
+        path: &[Ident],
+        args: &[RawExpr],
+        span: Span,
+        context: Context,
+    ) -> Option<Expr> {
+        let first = path.first()?.span();
+        let last = path.last()?.span();
+        let name_span = join_spans(first, last, last);
+        let func = self.function(path, name_span);
+        let resolved = self.resolve_all(args, context);
+        let func = func?;
+        if args.len() != func.arity() {
+            self.errors.error(
+                name_span,
+                format!(
+                    "`{}` takes {}, found {}",
+                    func.name(),
+                    count(func.arity(), "argument"),
+                    args.len()
+                ),
+            );
+            return None;
+        }
+        let raw: Vec<&RawExpr> = args.iter().collect();
+        self.call(func, &raw, resolved?, span)
+    }
+
+    fn resolve_method_call(
+        &mut self,
+        receiver: &RawExpr,
+        method: &Ident,
+        args: &[RawExpr],
+        span: Span,
+        context: Context,
+    ) -> Option<Expr> {
+        let receiver_resolved = self.resolve(receiver, context);
+        let func = self.method(method);
+        let resolved = self.resolve_all(args, context);
+        let func = func?;
+        if args.len() + 1 != func.arity() {
+            self.errors.error(
+                method.span(),
+                format!(
+                    "method `{}` takes {}, found {}",
+                    func.name(),
+                    count(func.arity() - 1, "argument"),
+                    args.len()
+                ),
+            );
+            return None;
+        }
+        let mut raw: Vec<&RawExpr> = vec![receiver];
+        raw.extend(args.iter());
+        let mut all = vec![receiver_resolved?];
+        all.extend(resolved?);
+        self.call(func, &raw, all, span)
     }
 
     fn resolve_all(&mut self, args: &[RawExpr], context: Context) -> Option<Vec<Expr>> {
@@ -481,13 +513,8 @@ impl<'e> StructChecker<'e> {
         resolved.into_iter().collect()
     }
 
-    fn call(&mut self, func: Func, raw: &[RawExpr], args: Vec<Expr>, span: Span) -> Option<Expr> {
-        let refs: Vec<&RawExpr> = raw.iter().collect();
-        self.call_refs(func, &refs, args, span)
-    }
-
     /// Builds a call once its arity is known to be right; checks `powi`'s exponent.
-    fn call_refs(
+    fn call(
         &mut self,
         func: Func,
         raw: &[&RawExpr],
@@ -579,7 +606,7 @@ impl<'e> StructChecker<'e> {
     fn resolve_index(
         &mut self,
         base: &Ident,
-        index: &RawIndex,
+        indices: &[RawIndex],
         span: Span,
         context: Context,
     ) -> Option<Expr> {
@@ -594,6 +621,16 @@ impl<'e> StructChecker<'e> {
             );
             return None;
         }
+        let [index] = indices else {
+            self.errors.error(
+                span,
+                format!(
+                    "expected one index, as in `{base}[{}]`",
+                    self.coords[0]
+                ),
+            );
+            return None;
+        };
         let coord = self.coordinate_index(index);
         if context != Context::Invariant {
             let what = if is_velocity { "velocity" } else { "momentum" };

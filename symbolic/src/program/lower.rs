@@ -4,13 +4,15 @@
 //! subexpression shared anywhere among a kernel's outputs is computed once. On the way the
 //! canonical sums and products are turned into cheap code: integer powers by repeated
 //! multiplication (x·x, (x·x)·(x·x)), half-integer powers through one square root, a product's
-//! negative powers gathered under a single division, a sum's terms grouped by coefficient so
+//! negative powers taken as powers of one reciprocal per base, a sum's terms grouped by coefficient so
 //! that a shared factor is multiplied once, and signs absorbed into subtractions.
 
 use std::collections::{BTreeMap, HashMap};
 
+use num_integer::Integer;
 use num_traits::{One, Signed, ToPrimitive, Zero};
 
+use super::factor::{Factor, Factoring, Term};
 use super::{InputArray, Instr, KernelKind, KernelProgram, Val};
 use crate::expr::{ExprId, Node, Store, SymbolKind, Q};
 
@@ -25,7 +27,16 @@ pub fn lower(
     outputs: &[ExprId],
     shape: Vec<usize>,
 ) -> KernelProgram {
-    let mut l = Lowerer { store, instrs: Vec::new(), numbering: HashMap::new(), memo: HashMap::new() };
+    let mut l = Lowerer {
+        store,
+        instrs: Vec::new(),
+        numbering: HashMap::new(),
+        memo: HashMap::new(),
+        factoring: Factoring::new(store, outputs),
+        factor_vals: HashMap::new(),
+        term_vals: HashMap::new(),
+        sum_memo: HashMap::new(),
+    };
     let outs: Vec<Val> = outputs.iter().map(|&e| l.lower(e)).collect();
     KernelProgram { kind, dim, instrs: l.instrs, outputs: outs, shape }
 }
@@ -34,7 +45,11 @@ struct Lowerer<'a> {
     store: &'a Store,
     instrs: Vec<Instr>,
     numbering: HashMap<Instr, Val>,
-    memo: HashMap<ExprId, Val>,
+    memo: HashMap<ExprId, (Val, bool)>,
+    factoring: Factoring,
+    factor_vals: HashMap<usize, (Val, bool)>,
+    term_vals: HashMap<usize, (Val, bool)>,
+    sum_memo: HashMap<(Q, Vec<(usize, Q)>), (Val, bool)>,
 }
 
 impl Lowerer<'_> {
@@ -57,12 +72,28 @@ impl Lowerer<'_> {
         self.emit(Instr::Const(q))
     }
 
+    /// The value of `e`, with any pending sign applied.
     fn lower(&mut self, e: ExprId) -> Val {
+        let (v, negated) = self.lower_signed(e);
+        self.materialize(v, negated)
+    }
+
+    fn materialize(&mut self, v: Val, negated: bool) -> Val {
+        if negated {
+            self.emit(Instr::Neg(v))
+        } else {
+            v
+        }
+    }
+
+    /// `(v, negated)` with `e = −v` when `negated`: a sign is carried to the parent, which
+    /// absorbs it in a subtraction or in the sign of a product, instead of costing a negation.
+    fn lower_signed(&mut self, e: ExprId) -> (Val, bool) {
         if let Some(&v) = self.memo.get(&e) {
             return v;
         }
         let v = match self.store.node(e).clone() {
-            Node::Num(q) => self.constant(q),
+            Node::Num(q) => (self.constant(q.abs()), q.is_negative()),
             Node::Symbol(n) => {
                 let (array, index) = match self.store.symbols()[n as usize].kind {
                     SymbolKind::Coordinate(i) => (InputArray::X, i),
@@ -72,19 +103,25 @@ impl Lowerer<'_> {
                     SymbolKind::Vector(i) => (InputArray::V, i),
                     SymbolKind::Differential(i) => (InputArray::U, i),
                 };
-                self.emit(Instr::Input(array, index as u16))
+                (self.emit(Instr::Input(array, index as u16)), false)
             }
-            Node::Constant(c) => self.emit(Instr::Named(c)),
-            Node::Add(c, terms) => self.lower_sum(&c, &terms),
-            Node::Mul(factors) => self.lower_product(&factors),
+            Node::Constant(c) => (self.emit(Instr::Named(c)), false),
+            Node::Add(c, _) => {
+                let items = self.factoring.sums.get(&e).cloned().unwrap_or_default();
+                self.lower_sum(&c, &items)
+            }
+            Node::Mul(_) => {
+                let factors = self.factoring.products.get(&e).cloned().unwrap_or_default();
+                self.lower_product(&factors.0)
+            }
             Node::Call(f, a) => {
                 let a = self.lower(a);
-                self.emit(Instr::Call(f, a))
+                (self.emit(Instr::Call(f, a)), false)
             }
             Node::Pow(b, x) => {
                 let b = self.lower(b);
                 let x = self.lower(x);
-                self.emit(Instr::Powf(b, x))
+                (self.emit(Instr::Powf(b, x)), false)
             }
         };
         self.memo.insert(e, v);
@@ -93,12 +130,36 @@ impl Lowerer<'_> {
 
     /// `c + Σ kᵢ tᵢ`: terms grouped by |k| so each distinct factor is applied once,
     /// `|k|·(Σ± tᵢ)`, then the groups combined with additions and subtractions.
-    fn lower_sum(&mut self, c: &Q, terms: &[(ExprId, Q)]) -> Val {
+    fn lower_sum(&mut self, c: &Q, terms: &[(usize, Q)]) -> (Val, bool) {
+        // f and −f are one value with two signs: normalise so that the term with the
+        // smallest index has a positive coefficient, and share the sum across both signs.
+        let mut key: Vec<(usize, Q)> = terms.to_vec();
+        key.sort_by_key(|t| t.0);
+        let flip = match key.first() {
+            Some((_, k)) => k.is_negative(),
+            None => c.is_negative(),
+        };
+        let c = if flip { -c } else { c.clone() };
+        if flip {
+            for t in &mut key {
+                t.1 = -t.1.clone();
+            }
+        }
+        let memo_key = (c.clone(), key);
+        if let Some(&(v, negated)) = self.sum_memo.get(&memo_key) {
+            return (v, negated != flip);
+        }
+        let (v, negated) = self.lower_normalized_sum(&c, &memo_key.1);
+        self.sum_memo.insert(memo_key, (v, negated));
+        (v, negated != flip)
+    }
+
+    fn lower_normalized_sum(&mut self, c: &Q, terms: &[(usize, Q)]) -> (Val, bool) {
         let mut groups: BTreeMap<Q, (Vec<Val>, Vec<Val>)> = BTreeMap::new();
         for (t, k) in terms {
-            let v = self.lower(*t);
+            let (v, negated) = self.lower_term(*t);
             let g = groups.entry(k.abs()).or_default();
-            if k.is_positive() {
+            if k.is_positive() != negated {
                 g.0.push(v);
             } else {
                 g.1.push(v);
@@ -114,7 +175,7 @@ impl Lowerer<'_> {
         for (k, (pos, neg)) in groups {
             let kv = self.constant(k);
             let (body, positive) = if pos.is_empty() {
-                (self.signed_sum(&[], &neg), false)
+                (self.signed_sum(&neg, &[]), false)
             } else {
                 (self.signed_sum(&pos, &neg), true)
             };
@@ -128,15 +189,13 @@ impl Lowerer<'_> {
         let pos: Vec<Val> = parts.iter().filter(|p| p.1).map(|p| p.0).collect();
         let neg: Vec<Val> = parts.iter().filter(|p| !p.1).map(|p| p.0).collect();
         if pos.is_empty() {
-            let s = self.signed_sum(&neg, &[]);
-            self.emit(Instr::Neg(s))
+            (self.signed_sum(&neg, &[]), true)
         } else {
-            self.signed_sum(&pos, &neg)
+            (self.signed_sum(&pos, &neg), false)
         }
     }
 
-    /// `Σ pos − Σ neg`, left to right; `pos` must be non-empty unless `neg` is used as the
-    /// positive list by the caller.
+    /// `Σ pos − Σ neg`, left to right (zero when both are empty).
     fn signed_sum(&mut self, pos: &[Val], neg: &[Val]) -> Val {
         let (first, rest_pos, neg) = match pos.split_first() {
             Some((f, r)) => (*f, r, neg),
@@ -155,26 +214,59 @@ impl Lowerer<'_> {
         acc
     }
 
-    /// `Π bᵢ^eᵢ` as (product of positive powers) / (product of negative powers).
-    fn lower_product(&mut self, factors: &[(ExprId, Q)]) -> Val {
-        let mut num: Vec<Val> = Vec::new();
-        let mut den: Vec<Val> = Vec::new();
-        for (b, e) in factors {
-            let bv = self.lower(*b);
-            let p = self.power(bv, &e.abs());
-            if e.is_positive() {
-                num.push(p);
-            } else {
-                den.push(p);
+    fn lower_term(&mut self, t: usize) -> (Val, bool) {
+        if let Some(&v) = self.term_vals.get(&t) {
+            return v;
+        }
+        let v = match self.factoring.terms[t].clone() {
+            Term::Expr(e) => self.lower_signed(e),
+            Term::Pair(a, b, k) => self.lower_sum(&Q::zero(), &[(a, Q::one()), (b, k)]),
+        };
+        self.term_vals.insert(t, v);
+        v
+    }
+
+    fn lower_factor(&mut self, f: usize) -> (Val, bool) {
+        if let Some(&v) = self.factor_vals.get(&f) {
+            return v;
+        }
+        let v = match self.factoring.factors[f].clone() {
+            Factor::Power(b, e) => {
+                let (bv, negated) = self.lower_signed(b);
+                // (−v)^n = ±v^n for integer n; other powers need the true base.
+                let (bv, sign) = if negated && e.is_integer() {
+                    (bv, e.numer().is_odd())
+                } else {
+                    (self.materialize(bv, negated), false)
+                };
+                if e.is_negative() {
+                    let one = self.constant(Q::one());
+                    let r = self.emit(Instr::Div(one, bv));
+                    (self.power(r, &e.abs()), sign)
+                } else {
+                    (self.power(bv, &e), sign)
+                }
             }
+            Factor::Pair(a, b) => {
+                let ((a, na), (b, nb)) = (self.lower_factor(a), self.lower_factor(b));
+                (self.emit(Instr::Mul(a, b)), na != nb)
+            }
+        };
+        self.factor_vals.insert(f, v);
+        v
+    }
+
+    /// A product of factors; negative powers are powers of reciprocals (see [`Factoring`]).
+    fn lower_product(&mut self, factors: &[usize]) -> (Val, bool) {
+        let mut sign = false;
+        let mut vals = Vec::with_capacity(factors.len());
+        for &f in factors {
+            let (v, negated) = self.lower_factor(f);
+            sign ^= negated;
+            vals.push(v);
         }
-        let n = self.product(&num);
-        if den.is_empty() {
-            return n.unwrap_or_else(|| self.constant(Q::one()));
-        }
-        let d = self.product(&den).unwrap_or_else(|| self.constant(Q::one()));
-        let n = n.unwrap_or_else(|| self.constant(Q::one()));
-        self.emit(Instr::Div(n, d))
+        let v = self.product(&vals).unwrap_or_else(|| self.constant(Q::one()));
+        (v, sign)
     }
 
     fn product(&mut self, vals: &[Val]) -> Option<Val> {

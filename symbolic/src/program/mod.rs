@@ -5,6 +5,7 @@
 //! branch, no loop and no memory but the inputs and outputs, so every backend is a plain
 //! printer and the op counts are exact.
 
+mod factor;
 mod lower;
 
 pub use lower::lower;
