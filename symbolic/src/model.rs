@@ -275,6 +275,11 @@ impl Builder {
 /// Compiles one declaration to its kernels.
 pub fn compile(decl: &MetricDecl) -> Result<crate::kernels::KernelSet, Diagnostics> {
     let mut model = build_model(decl)?;
-    crate::kernels::build(&mut model).map_err(|e| Diagnostics::new(Diagnostic::new(decl.name.span(), e.to_string())))
+    crate::kernels::build(&mut model).map_err(|e| {
+        let crate::geometry::InverseError::SingularBlock { coords } = &e;
+        let names: Vec<String> = coords.iter().map(|&i| decl.coords[i].to_string()).collect();
+        let msg = format!("{e}: the block of coordinates {} is degenerate", names.join(", "));
+        Diagnostics::new(Diagnostic::new(decl.name.span(), msg))
+    })
 }
 

@@ -45,6 +45,12 @@ pub fn emit(ks: &KernelSet, opts: &RustOptions) -> TokenStream {
     let inv_names = &ks.invariant_names;
     let n_params = Literal::usize_unsuffixed(ks.params.len());
     let struct_docs = struct_docs(ks);
+    // A metric without parameters still needs T in a field.
+    let (phantom_field, phantom_init) = if params.is_empty() {
+        (quote!(_scalar: ::core::marker::PhantomData<T>,), quote!(_scalar: ::core::marker::PhantomData))
+    } else {
+        (TokenStream::new(), TokenStream::new())
+    };
 
     let kernel = |kind: KernelKind| {
         let p = ks.program(kind);
@@ -96,6 +102,7 @@ pub fn emit(ks: &KernelSet, opts: &RustOptions) -> TokenStream {
         #[derive(Clone, Copy, Debug, PartialEq)]
         #vis struct #name<T = f64> {
             #( #[doc = #param_docs] pub #params: T, )*
+            #phantom_field
         }
 
         #[allow(clippy::all, clippy::pedantic, clippy::nursery, unused_parens)]
@@ -132,7 +139,7 @@ pub fn emit(ks: &KernelSet, opts: &RustOptions) -> TokenStream {
             #[doc = #new_doc]
             #[inline]
             pub const fn new(#(#params: T),*) -> Self {
-                Self { #(#params),* }
+                Self { #(#params,)* #phantom_init }
             }
 
             /// The metric g_ab at `x`.
@@ -360,11 +367,13 @@ pub fn emit_stub(shape: &StubShape, opts: &RustOptions) -> TokenStream {
     let params: Vec<Ident> = shape.params.iter().map(|p| format_ident!("{}", p)).collect();
     quote! {
         #[allow(dead_code, missing_docs)]
-        #vis struct #name<T = f64> { #( pub #params: T, )* }
+        #vis struct #name<T = f64> { #( pub #params: T, )* _scalar: ::core::marker::PhantomData<T> }
         #[allow(dead_code, missing_docs, unused_variables, clippy::all)]
         impl<T: #rt::Scalar> #name<T> {
             pub const DIM: usize = #n;
-            pub fn new(#(#params: T),*) -> Self { Self { #(#params),* } }
+            pub fn new(#(#params: T),*) -> Self {
+                Self { #(#params,)* _scalar: ::core::marker::PhantomData }
+            }
             pub fn metric(&self, x: &[T; #n]) -> [[T; #n]; #n] { unimplemented!() }
             pub fn inverse_metric(&self, x: &[T; #n]) -> [[T; #n]; #n] { unimplemented!() }
             pub fn christoffel(&self, x: &[T; #n]) -> [[[T; #n]; #n]; #n] { unimplemented!() }

@@ -17,7 +17,7 @@ use crate::expr::{ExprId, Store, Q};
 #[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
 pub enum InverseError {
     /// The determinant of a block is zero in canonical form or at every sample point.
-    #[error("the metric's determinant is identically zero (coordinates {coords:?} are degenerate)")]
+    #[error("the metric's determinant is identically zero")]
     SingularBlock {
         /// The coordinate numbers of the singular block.
         coords: Vec<usize>,

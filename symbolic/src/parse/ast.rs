@@ -88,7 +88,11 @@ impl MetricDecl {
     pub fn components(&self, which: Tensor) -> impl Iterator<Item = (usize, usize, &Expr)> {
         self.items.iter().filter_map(move |item| match item {
             Item::Component {
-                which: w, i, j, value, ..
+                which: w,
+                i,
+                j,
+                value,
+                ..
             } if *w == which => Some((*i, *j, value)),
             _ => None,
         })
@@ -404,7 +408,10 @@ impl Expr {
     /// Height of the tree: 1 for a leaf.
     pub fn height(&self) -> usize {
         match self {
-            Expr::Number { .. } | Expr::Var { .. } | Expr::Velocity { .. } | Expr::Momentum { .. } => 1,
+            Expr::Number { .. }
+            | Expr::Var { .. }
+            | Expr::Velocity { .. }
+            | Expr::Momentum { .. } => 1,
             Expr::Neg { arg, .. } => 1 + arg.height(),
             Expr::Binary { lhs, rhs, .. } => 1 + lhs.height().max(rhs.height()),
             Expr::Call { args, .. } => 1 + args.iter().map(Expr::height).max().unwrap_or(0),

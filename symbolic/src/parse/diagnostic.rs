@@ -14,6 +14,9 @@ pub struct Diagnostic {
     pub message: String,
     /// The token (or tokens) blamed.
     pub span: Span,
+    /// Line and column in the text, where `span` cannot tell them (see
+    /// [`Diagnostic::line_col`]).
+    location: Option<(usize, usize)>,
 }
 
 impl Diagnostic {
@@ -22,14 +25,29 @@ impl Diagnostic {
         Diagnostic {
             message: message.into(),
             span,
+            location: None,
+        }
+    }
+
+    /// An error at a known line and column of a text, blaming `span` for a compiler.
+    pub(crate) fn located(span: Span, message: String, line_col: (usize, usize)) -> Diagnostic {
+        Diagnostic {
+            message,
+            span,
+            location: Some(line_col),
         }
     }
 
     /// 1-based line and 1-based column (in characters) where the blamed tokens start.
     ///
     /// For text read with [`parse_str`](super::parse_str) these count from the start of that
-    /// text; inside a proc macro they are positions in the user's source file.
+    /// text, also when it runs inside a proc macro (where the tokens' spans all point at the
+    /// macro call); for tokens handed to a proc macro they are positions in the user's
+    /// source file.
     pub fn line_col(&self) -> (usize, usize) {
+        if let Some(location) = self.location {
+            return location;
+        }
         let start = self.span.start();
         (start.line.max(1), start.column + 1)
     }

@@ -41,6 +41,8 @@ mod validate;
 #[cfg(test)]
 mod tests;
 
+extern crate proc_macro;
+
 use std::str::FromStr;
 
 use proc_macro2::TokenStream;
@@ -81,6 +83,56 @@ pub fn parse_tokens(tokens: TokenStream) -> Result<ast::File, Diagnostics> {
 /// does not even split into tokens (an unclosed bracket, a stray character) is reported the
 /// same way.
 pub fn parse_str(source: &str) -> Result<ast::File, Diagnostics> {
+    let errors = match parse_text(source) {
+        Ok(file) => return Ok(file),
+        Err(errors) => errors,
+    };
+    // Inside a proc macro (one that reads a `.gk` file), the compiler lexes the text and
+    // every span points at the macro call, so the positions would be wrong.
+    if proc_macro::is_available() {
+        if let Some(located) = locate_in_text(source) {
+            return Err(located);
+        }
+    }
+    Err(errors)
+}
+
+/// Parses `source` again with proc-macro2's own lexer, whose spans know their line and
+/// column, and keeps only the messages and positions from that run: its tokens must not
+/// mix with the compiler's, so none of them leaves this function.
+fn locate_in_text(source: &str) -> Option<Diagnostics> {
+    /// Restores the compiler's token types even if parsing were to panic.
+    struct Restore;
+    impl Drop for Restore {
+        fn drop(&mut self) {
+            proc_macro2::fallback::unforce();
+        }
+    }
+    let located: Vec<(String, (usize, usize))> = {
+        proc_macro2::fallback::force();
+        let _restore = Restore;
+        let result = parse_text(source);
+        match result {
+            Ok(_) => Vec::new(),
+            Err(errors) => errors
+                .into_iter()
+                .map(|d| {
+                    let position = d.line_col();
+                    (d.message, position)
+                })
+                .collect(),
+        }
+    };
+    let call_site = proc_macro2::Span::call_site();
+    Diagnostics::from_vec(
+        located
+            .into_iter()
+            .map(|(message, position)| Diagnostic::located(call_site, message, position))
+            .collect(),
+    )
+}
+
+fn parse_text(source: &str) -> Result<ast::File, Diagnostics> {
     match TokenStream::from_str(source) {
         Ok(tokens) => parse_tokens(tokens),
         Err(error) => Err(Diagnostics::new(lex_diagnostic(source, &error))),

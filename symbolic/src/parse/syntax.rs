@@ -43,9 +43,11 @@ pub(crate) struct RawStruct {
     pub(crate) vis: syn::Visibility,
     pub(crate) name: Ident,
     pub(crate) body: Vec<RawStmt>,
-    /// Whether a syntax error was found in the body; such a struct is not checked further,
-    /// since its missing lines would only cause follow-on errors.
+    /// Whether a syntax error was found in the body.
     pub(crate) has_syntax_error: bool,
+    /// Whether a line that may declare a name was unreadable; such a struct is not checked
+    /// further, since the missing names would only cause follow-on errors.
+    pub(crate) broken_declaration: bool,
 }
 
 /// Which list a `KEY: [..]` line gives.
@@ -99,7 +101,10 @@ pub(crate) enum RawStmt {
 pub(crate) enum RawIndex {
     Name(Ident),
     /// `usize::MAX` stands for a number too large to be any index.
-    Number { value: usize, span: Span },
+    Number {
+        value: usize,
+        span: Span,
+    },
 }
 
 /// An expression before name resolution. Composite nodes record their height so that the
@@ -248,12 +253,7 @@ fn token_shape(tokens: &TokenStream) -> Result<TokenShape, Span> {
     Ok(TokenShape { last_span })
 }
 
-fn file(
-    input: ParseStream,
-    errors: &mut Collector,
-    last_span: Span,
-    structs: &mut Vec<RawStruct>,
-) {
+fn file(input: ParseStream, errors: &mut Collector, last_span: Span, structs: &mut Vec<RawStruct>) {
     while !input.is_empty() {
         match struct_decl(input, errors) {
             Ok(decl) => structs.push(decl),
@@ -313,8 +313,9 @@ fn struct_decl(input: ParseStream, errors: &mut Collector) -> syn::Result<RawStr
         attrs,
         vis,
         name,
-        body,
+        body: body.stmts,
         has_syntax_error: errors.count() > before,
+        broken_declaration: body.broken_declaration,
     })
 }
 
@@ -354,45 +355,71 @@ const STATEMENT_HELP: &str = "expected `coords: [..]`, `params: [..]`, `options:
                               `let NAME = ..;`, `g[i, j] = ..;`, `ginv[i, j] = ..;`, \
                               `line_element = ..;` or `invariant NAME = ..;`";
 
-fn struct_body(input: ParseStream, errors: &mut Collector) -> Vec<RawStmt> {
-    let mut body = Vec::new();
+/// A struct body and what its syntax errors broke.
+struct Body {
+    stmts: Vec<RawStmt>,
+    /// Whether a line that may declare a name (or an unrecognised line) was unreadable.
+    broken_declaration: bool,
+}
+
+fn struct_body(input: ParseStream, errors: &mut Collector) -> Body {
+    let mut body = Body {
+        stmts: Vec::new(),
+        broken_declaration: false,
+    };
     while !input.is_empty() {
-        let ends_with_semicolon = starts_semicolon_statement(input);
+        let kind = line_kind(input);
         match statement(input) {
-            Ok(Some(stmt)) => body.push(stmt),
+            Ok(Some(stmt)) => body.stmts.push(stmt),
             Ok(None) => {}
             Err(error) => {
                 errors.syn_error(error);
-                skip_statement(input, ends_with_semicolon);
+                body.broken_declaration |= kind != LineKind::Definition;
+                skip_statement(input, kind != LineKind::List);
             }
         }
     }
     body
 }
 
-fn starts_semicolon_statement(input: ParseStream) -> bool {
+/// What a line is, judged from its first token, for error recovery.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum LineKind {
+    /// `coords:`, `params:` or `options:`, ended by `,`.
+    List,
+    /// `let`, ended by `;`; it declares a name.
+    Let,
+    /// `g[..]`, `ginv[..]`, `line_element` or `invariant`, ended by `;`; nothing else can
+    /// refer to what it defines.
+    Definition,
+    /// Anything else (perhaps a misspelt keyword).
+    Unknown,
+}
+
+fn line_kind(input: ParseStream) -> LineKind {
     if input.peek(Token![let]) {
-        return true;
+        return LineKind::Let;
     }
     match input.cursor().ident() {
-        Some((ident, _)) => matches!(
-            ident.to_string().as_str(),
-            "g" | "ginv" | "line_element" | "invariant"
-        ),
-        None => false,
+        Some((ident, _)) => match ident.to_string().as_str() {
+            "g" | "ginv" | "line_element" | "invariant" => LineKind::Definition,
+            "coords" | "params" | "options" => LineKind::List,
+            _ => LineKind::Unknown,
+        },
+        None => LineKind::Unknown,
     }
 }
 
 /// Skips past the `;` (or, for list lines, `,`) that ends a broken line, consuming at least
 /// one token so that recovery always makes progress.
-fn skip_statement(input: ParseStream, ends_with_semicolon: bool) {
+fn skip_statement(input: ParseStream, semicolon_only: bool) {
     let _ = input.step(|cursor| {
         let mut rest = *cursor;
         while let Some((tree, next)) = rest.token_tree() {
             rest = next;
             if let TokenTree::Punct(punct) = tree {
                 let c = punct.as_char();
-                if c == ';' || (c == ',' && !ends_with_semicolon) {
+                if c == ';' || (c == ',' && !semicolon_only) {
                     break;
                 }
             }
@@ -730,7 +757,8 @@ impl ExprParser {
         if input.peek(token::Bracket) && segments.len() == 1 {
             let content;
             let brackets = bracketed!(content in input);
-            let indices = Punctuated::<RawIndex, Token![,]>::parse_terminated_with(&content, index)?;
+            let indices =
+                Punctuated::<RawIndex, Token![,]>::parse_terminated_with(&content, index)?;
             let base = segments.remove(0);
             let span = join_spans(base.span(), brackets.span.close(), base.span());
             return Ok(RawExpr::Index {
@@ -840,7 +868,11 @@ fn number(input: ParseStream) -> syn::Result<RawExpr> {
     let lit: syn::Lit = input.parse()?;
     let span = lit.span();
     let (digits, suffix, integer) = match &lit {
-        syn::Lit::Int(int) => (int.base10_digits().to_string(), int.suffix().to_string(), true),
+        syn::Lit::Int(int) => (
+            int.base10_digits().to_string(),
+            int.suffix().to_string(),
+            true,
+        ),
         syn::Lit::Float(float) => (
             float.base10_digits().to_string(),
             float.suffix().to_string(),

@@ -272,16 +272,39 @@ fn kerr_parses_with_its_items() {
     else {
         panic!("g[r, r] should be a division, got {g_rr}");
     };
-    assert!(matches!(**lhs, Expr::Var { kind: VarKind::Let(0), .. }));
-    assert!(matches!(**rhs, Expr::Var { kind: VarKind::Let(1), .. }));
+    assert!(matches!(
+        **lhs,
+        Expr::Var {
+            kind: VarKind::Let(0),
+            ..
+        }
+    ));
+    assert!(matches!(
+        **rhs,
+        Expr::Var {
+            kind: VarKind::Let(1),
+            ..
+        }
+    ));
     // sigma = r.powi(2) + ...: r is coordinate 1, the exponent an exact integer.
     let Some(Expr::Binary { lhs, .. }) = kerr.let_value(0) else {
         panic!("sigma should be a sum");
     };
-    let Expr::Call { func: Func::Powi, args, .. } = &**lhs else {
+    let Expr::Call {
+        func: Func::Powi,
+        args,
+        ..
+    } = &**lhs
+    else {
         panic!("sigma should start with r.powi(2), got {lhs}");
     };
-    assert!(matches!(args[0], Expr::Var { kind: VarKind::Coordinate(1), .. }));
+    assert!(matches!(
+        args[0],
+        Expr::Var {
+            kind: VarKind::Coordinate(1),
+            ..
+        }
+    ));
     assert_eq!(args[1].as_integer(), Some(2));
     assert!(!kerr.has_option("curvature"));
 }
@@ -383,7 +406,13 @@ fn a_name_in_scope_shadows_a_differential() {
     let Expr::Binary { lhs, .. } = value else {
         panic!("expected a product");
     };
-    assert!(matches!(**lhs, Expr::Var { kind: VarKind::Coordinate(1), .. }));
+    assert!(matches!(
+        **lhs,
+        Expr::Var {
+            kind: VarKind::Coordinate(1),
+            ..
+        }
+    ));
 }
 
 /// The single component's value in a one-line metric `g[x, x] = EXPR`.
@@ -435,11 +464,21 @@ fn decimal_literals_are_exact() {
 #[test]
 fn negative_literals_stay_negations_except_powi_exponents() {
     assert!(matches!(value_of("-2"), Expr::Neg { .. }));
-    let Expr::Call { func: Func::Powi, args, .. } = value_of("x.powi(-2)") else {
+    let Expr::Call {
+        func: Func::Powi,
+        args,
+        ..
+    } = value_of("x.powi(-2)")
+    else {
         panic!("expected powi");
     };
     assert_eq!(args[1].as_integer(), Some(-2));
-    let Expr::Call { func: Func::Powi, args, .. } = value_of("powi(x, -3)") else {
+    let Expr::Call {
+        func: Func::Powi,
+        args,
+        ..
+    } = value_of("powi(x, -3)")
+    else {
         panic!("expected powi");
     };
     assert_eq!(args[1].as_integer(), Some(-3));
@@ -456,7 +495,11 @@ fn function_and_method_forms_agree() {
         ("x.atan().tanh()", "tanh(atan(x))"),
     ];
     for (method, function) in pairs {
-        assert_eq!(value_of(method), value_of(function), "{method} vs {function}");
+        assert_eq!(
+            value_of(method),
+            value_of(function),
+            "{method} vs {function}"
+        );
     }
     for func in Func::ALL {
         let source = match func.arity() {
@@ -517,8 +560,20 @@ fn precedence_and_associativity_follow_rust() {
     else {
         panic!("expected a subtraction");
     };
-    assert!(matches!(*lhs, Expr::Binary { op: BinaryOp::Sub, .. }));
-    assert!(matches!(*rhs, Expr::Var { kind: VarKind::Parameter(0), .. }));
+    assert!(matches!(
+        *lhs,
+        Expr::Binary {
+            op: BinaryOp::Sub,
+            ..
+        }
+    ));
+    assert!(matches!(
+        *rhs,
+        Expr::Var {
+            kind: VarKind::Parameter(0),
+            ..
+        }
+    ));
 }
 
 #[test]
@@ -565,7 +620,13 @@ fn docs_are_trimmed_and_other_attributes_pass_through() {
     let metric = &file.metrics[0];
     assert_eq!(
         metric.docs,
-        ["A test metric.", "", "With two paragraphs.", "Block doc", "on two lines."]
+        [
+            "A test metric.",
+            "",
+            "With two paragraphs.",
+            "Block doc",
+            "on two lines."
+        ]
     );
     assert_eq!(metric.attrs.len(), 1);
     assert!(metric.attrs[0].path().is_ident("derive"));
@@ -669,6 +730,32 @@ fn all_errors_are_collected_in_source_order() {
 }
 
 #[test]
+fn a_broken_component_line_does_not_hide_other_errors() {
+    let errors = err("struct M {\n coords: [t, r],\n g[t, t] = 1 +;\n g[r, r] = q;\n}");
+    let found: Vec<((usize, usize), &str)> = errors
+        .iter()
+        .map(|d| (d.line_col(), d.message.as_str()))
+        .collect();
+    assert_eq!(found.len(), 2, "{found:?}");
+    assert_eq!(found[0].0, (3, 15));
+    assert!(found[0].1.contains("expected an expression"));
+    assert_eq!(found[1].0, (4, 12));
+    assert!(found[1].1.contains("unknown identifier `q`"));
+}
+
+#[test]
+fn a_broken_declaration_does_not_cause_follow_on_errors() {
+    // `k` is never declared because its line is unreadable; uses of it are not reported.
+    let errors = err("struct M {\n coords: [t],\n let k = 1 +;\n g[t, t] = k;\n}");
+    let found: Vec<((usize, usize), &str)> = errors
+        .iter()
+        .map(|d| (d.line_col(), d.message.as_str()))
+        .collect();
+    assert_eq!(found.len(), 1, "{found:?}");
+    assert_eq!(found[0].0, (3, 13));
+}
+
+#[test]
 fn every_mistake_in_one_expression_is_reported() {
     let errors = err("struct M { coords: [x], g[x, x] = a + b.floor() * c; }");
     let messages: Vec<&str> = errors.iter().map(|d| d.message.as_str()).collect();
@@ -709,11 +796,23 @@ fn nesting_up_to_the_limit_parses_and_beyond_it_fails() {
 
     let deep = 100_000;
     for (expr, message) in [
-        (format!("{}x{}", "(".repeat(deep), ")".repeat(deep)), "brackets nested too deeply"),
+        (
+            format!("{}x{}", "(".repeat(deep), ")".repeat(deep)),
+            "brackets nested too deeply",
+        ),
         (format!("{}x", "-".repeat(deep)), "expression too large"),
-        (format!("{}x", "- (".repeat(MAX_NESTING) + &")".repeat(MAX_NESTING)), "nested too deeply"),
-        (vec!["x"; MAX_EXPR_HEIGHT + 5].join(" * "), "expression too large"),
-        (format!("x{}", ".sin()".repeat(deep)), "expression too large"),
+        (
+            format!("{}x", "- (".repeat(MAX_NESTING) + &")".repeat(MAX_NESTING)),
+            "nested too deeply",
+        ),
+        (
+            vec!["x"; MAX_EXPR_HEIGHT + 5].join(" * "),
+            "expression too large",
+        ),
+        (
+            format!("x{}", ".sin()".repeat(deep)),
+            "expression too large",
+        ),
     ] {
         let source = format!("struct M {{ coords: [x], g[x, x] = {expr}; }}");
         let errors = err(&source);
@@ -725,7 +824,10 @@ fn nesting_up_to_the_limit_parses_and_beyond_it_fails() {
     }
     // Deep brackets outside any expression are caught before syn sees them.
     let errors = err(&format!("{}{}", "[".repeat(deep), "]".repeat(deep)));
-    assert!(errors.first().message.contains("brackets nested too deeply"));
+    assert!(errors
+        .first()
+        .message
+        .contains("brackets nested too deeply"));
 }
 
 #[test]
@@ -746,17 +848,87 @@ fn exact_decimal_reads_every_form() {
 
 /// Pieces of declarations, valid and not, for the token-soup property test.
 const SOUP: &[&str] = &[
-    "struct", "pub", "M", "coords", "params", "options", "curvature", "let", "g", "ginv",
-    "line_element", "invariant", "t", "r", "x", "dt", "dr", "u", "p", "PI", "E", "m", "sin",
-    "powi", "powf", "sqrt", "floor", "std", "f64", "consts", "as", "fn", ":", "::", ";", ",",
-    "=", "+", "-", "*", "/", "%", "^", ".", "..", "!", "#", "(", ")", "[", "]", "{", "}", "0",
-    "1", "2.0", "0.1", "1e-3", "1e5000", "2f64", "2u8", "0x1F", "-1", "\"s\"", "'c'", "///",
-    "//", "\n", " ", "`", "\\", "é", "\u{0}",
+    "struct",
+    "pub",
+    "M",
+    "coords",
+    "params",
+    "options",
+    "curvature",
+    "let",
+    "g",
+    "ginv",
+    "line_element",
+    "invariant",
+    "t",
+    "r",
+    "x",
+    "dt",
+    "dr",
+    "u",
+    "p",
+    "PI",
+    "E",
+    "m",
+    "sin",
+    "powi",
+    "powf",
+    "sqrt",
+    "floor",
+    "std",
+    "f64",
+    "consts",
+    "as",
+    "fn",
+    ":",
+    "::",
+    ";",
+    ",",
+    "=",
+    "+",
+    "-",
+    "*",
+    "/",
+    "%",
+    "^",
+    ".",
+    "..",
+    "!",
+    "#",
+    "(",
+    ")",
+    "[",
+    "]",
+    "{",
+    "}",
+    "0",
+    "1",
+    "2.0",
+    "0.1",
+    "1e-3",
+    "1e5000",
+    "2f64",
+    "2u8",
+    "0x1F",
+    "-1",
+    "\"s\"",
+    "'c'",
+    "///",
+    "//",
+    "\n",
+    " ",
+    "`",
+    "\\",
+    "é",
+    "\u{0}",
 ];
 
 fn soup() -> impl Strategy<Value = String> {
     let piece = prop::sample::select(SOUP).prop_map(str::to_string);
-    let nest = (1usize..400, prop::sample::select(&["(", "[", "{", "-", "- (", "x.sin()."][..]))
+    let nest = (
+        1usize..400,
+        prop::sample::select(&["(", "[", "{", "-", "- (", "x.sin()."][..]),
+    )
         .prop_map(|(n, open)| open.repeat(n));
     prop::collection::vec(prop_oneof![8 => piece, 1 => nest], 0..60)
         .prop_map(|pieces| pieces.join(" "))

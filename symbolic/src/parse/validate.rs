@@ -9,7 +9,9 @@ use std::collections::BTreeMap;
 
 use proc_macro2::{Ident, Span};
 
-use super::ast::{BinaryOp, Constant, Expr, File, Func, Item, MetricDecl, Tensor, VarKind, KNOWN_OPTIONS};
+use super::ast::{
+    BinaryOp, Constant, Expr, File, Func, Item, MetricDecl, Tensor, VarKind, KNOWN_OPTIONS,
+};
 use super::diagnostic::Collector;
 use super::syntax::{join_spans, ListKind, RawExpr, RawFile, RawIndex, RawStmt, RawStruct};
 use super::MAX_COORDS;
@@ -28,7 +30,7 @@ pub(crate) fn validate(raw: RawFile, errors: &mut Collector) -> File {
         } else {
             seen.insert(name, decl.name.span());
         }
-        if decl.has_syntax_error {
+        if decl.broken_declaration {
             continue;
         }
         if let Some(metric) = StructChecker::check(decl, errors) {
@@ -165,7 +167,7 @@ impl<'e> StructChecker<'e> {
         let items = checker.items(&decl);
         let lets = checker.lets;
 
-        if errors_after(checker.errors, before) {
+        if errors_after(checker.errors, before) || decl.has_syntax_error {
             return None;
         }
         Some(MetricDecl {
@@ -334,7 +336,8 @@ impl<'e> StructChecker<'e> {
                 }
             }
         }
-        if first_metric_component.is_none() && line_element.is_none() {
+        // After a syntax error the missing components may be on the unreadable line.
+        if first_metric_component.is_none() && line_element.is_none() && !decl.has_syntax_error {
             self.errors.error(
                 decl.name.span(),
                 format!(
@@ -369,21 +372,19 @@ impl<'e> StructChecker<'e> {
                     None
                 }
             }
-            RawIndex::Name(name) => {
-                match self.coords.iter().position(|c| c == name) {
-                    Some(k) => Some(k),
-                    None => {
-                        self.errors.error(
-                            name.span(),
-                            format!(
-                                "unknown coordinate `{name}` in index; coordinates are {}",
-                                list_names(&self.coords)
-                            ),
-                        );
-                        None
-                    }
+            RawIndex::Name(name) => match self.coords.iter().position(|c| c == name) {
+                Some(k) => Some(k),
+                None => {
+                    self.errors.error(
+                        name.span(),
+                        format!(
+                            "unknown coordinate `{name}` in index; coordinates are {}",
+                            list_names(&self.coords)
+                        ),
+                    );
+                    None
                 }
-            }
+            },
         }
     }
 
@@ -508,8 +509,7 @@ impl<'e> StructChecker<'e> {
     }
 
     fn resolve_all(&mut self, args: &[RawExpr], context: Context) -> Option<Vec<Expr>> {
-        let resolved: Vec<Option<Expr>> =
-            args.iter().map(|a| self.resolve(a, context)).collect();
+        let resolved: Vec<Option<Expr>> = args.iter().map(|a| self.resolve(a, context)).collect();
         resolved.into_iter().collect()
     }
 
@@ -540,7 +540,11 @@ impl<'e> StructChecker<'e> {
             ..
         } = literal
         {
-            let value = if negated { -value.clone() } else { value.clone() };
+            let value = if negated {
+                -value.clone()
+            } else {
+                value.clone()
+            };
             let fits = i32::try_from(value.to_integer()).is_ok();
             if fits {
                 return Some(Expr::Number {
@@ -568,10 +572,8 @@ impl<'e> StructChecker<'e> {
             [name] => name,
             [ty, name] if ty == "f64" => name,
             _ => {
-                self.errors.error(
-                    span,
-                    format!("unsupported function `{}`", path_text(path)),
-                );
+                self.errors
+                    .error(span, format!("unsupported function `{}`", path_text(path)));
                 return None;
             }
         };
@@ -624,10 +626,7 @@ impl<'e> StructChecker<'e> {
         let [index] = indices else {
             self.errors.error(
                 span,
-                format!(
-                    "expected one index, as in `{base}[{}]`",
-                    self.coords[0]
-                ),
+                format!("expected one index, as in `{base}[{}]`", self.coords[0]),
             );
             return None;
         };
@@ -709,10 +708,7 @@ impl<'e> StructChecker<'e> {
         if let Some(at) = self.later_lets.get(&text) {
             self.errors.error(
                 name.span(),
-                format!(
-                    "let `{text}` used before it is defined{}",
-                    defined_at(*at)
-                ),
+                format!("let `{text}` used before it is defined{}", defined_at(*at)),
             );
             return None;
         }

@@ -1,0 +1,7 @@
+#!/usr/bin/env bash
+# The whole test suite, from a fresh checkout: installs what it needs, then runs every test.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+scripts/setup.sh
+cargo test --workspace --all-targets
+cargo test --workspace --doc

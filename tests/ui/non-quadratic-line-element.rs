@@ -1,0 +1,8 @@
+geokern::metric! {
+    pub struct Odd {
+        coords: [t, x],
+        line_element = -dt.powi(2) + dx.powi(3);
+    }
+}
+
+fn main() {}
