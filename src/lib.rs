@@ -15,7 +15,8 @@
 //!     }
 //! }
 //!
-//! let bh = Schwarzschild::new(1.0);
+//! // `Schwarzschild` alone means `Schwarzschild<f64>`; f32, dual numbers and SIMD lanes work too.
+//! let bh: Schwarzschild = Schwarzschild::new(1.0);
 //! let x = [0.0, 10.0, 1.0, 0.0];
 //! let gamma = bh.christoffel(&x);
 //! // Γ^r_tt = m (r − 2m) / r³

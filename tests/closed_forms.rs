@@ -1,4 +1,5 @@
 //! Christoffel symbols against closed forms from the textbooks.
+#![allow(clippy::needless_range_loop)]
 
 geokern::metric! {
     /// Round 2-sphere of radius rho.
@@ -111,6 +112,9 @@ fn conserved_momenta_follow_the_cyclic_coordinates() {
     let f = 1.0 - 2.0 / 10.0;
     // p_t = g_tt u^t, p_φ = g_φφ u^φ.
     assert!(close(bh.momentum_t(&x, &u), -f * 1.2));
-    assert!(close(bh.momentum_phi(&x, &u), (10.0 * 1.0_f64.sin()).powi(2) * 0.04));
+    assert!(close(
+        bh.momentum_phi(&x, &u),
+        (10.0 * 1.0_f64.sin()).powi(2) * 0.04
+    ));
     assert_eq!(Schw::<f64>::CONSERVED, ["p_t", "p_phi"]);
 }

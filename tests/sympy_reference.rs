@@ -38,7 +38,10 @@ fn assert_close(what: &str, got: &[f64], want: &[f64]) {
     let scale = want.iter().fold(0.0_f64, |m, v| m.max(v.abs())).max(1e-300);
     for (i, (g, w)) in got.iter().zip(want).enumerate() {
         let err = (g - w).abs() / scale;
-        assert!(err <= TOL, "{what}[{i}]: got {g:e}, want {w:e} (relative error {err:e})");
+        assert!(
+            err <= TOL,
+            "{what}[{i}]: got {g:e}, want {w:e} (relative error {err:e})"
+        );
     }
 }
 
@@ -52,17 +55,31 @@ fn check<M: MetricKernels<f64, N>, const N: usize>(key: &str, make: impl Fn(&[f6
     assert!(!samples.is_empty());
     for (k, s) in samples.iter().enumerate() {
         let arr = |name: &str| -> [f64; N] {
-            floats(&s[name]).try_into().expect("vector of the metric's dimension")
+            floats(&s[name])
+                .try_into()
+                .expect("vector of the metric's dimension")
         };
         let (x, u, p) = (arr("x"), arr("u"), arr("p"));
         let tag = |what: &str| format!("{key} sample {k} {what}");
         let flat2 = |m: [[f64; N]; N]| m.iter().flatten().copied().collect::<Vec<_>>();
-        assert_close(&tag("metric"), &flat2(metric.metric(&x)), &floats(&s["metric"]));
-        assert_close(&tag("inverse"), &flat2(metric.inverse_metric(&x)), &floats(&s["inverse"]));
+        assert_close(
+            &tag("metric"),
+            &flat2(metric.metric(&x)),
+            &floats(&s["metric"]),
+        );
+        assert_close(
+            &tag("inverse"),
+            &flat2(metric.inverse_metric(&x)),
+            &floats(&s["inverse"]),
+        );
         let gamma = metric.christoffel(&x);
         let gamma: Vec<f64> = gamma.iter().flatten().flatten().copied().collect();
         assert_close(&tag("christoffel"), &gamma, &floats(&s["christoffel"]));
-        assert_close(&tag("accel"), &metric.geodesic_accel(&x, &u), &floats(&s["accel"]));
+        assert_close(
+            &tag("accel"),
+            &metric.geodesic_accel(&x, &u),
+            &floats(&s["accel"]),
+        );
         let (dx, dp) = metric.hamilton_rhs(&x, &p);
         assert_close(&tag("hamilton dx"), &dx, &floats(&s["hamilton_dx"]));
         assert_close(&tag("hamilton dp"), &dp, &floats(&s["hamilton_dp"]));

@@ -50,7 +50,11 @@ pub fn stubs(input: TokenStream) -> TokenStream {
         };
         let dim = list("coords").map(|c| c.len()).unwrap_or(1).clamp(1, 16);
         let params = list("params").unwrap_or_default();
-        let shape = StubShape { name: name.to_string(), dim, params };
+        let shape = StubShape {
+            name: name.to_string(),
+            dim,
+            params,
+        };
         out.extend(emit_stub(&shape, &RustOptions::default()));
     }
     out

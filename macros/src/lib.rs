@@ -53,12 +53,16 @@ pub fn include_metric(input: TokenStream) -> TokenStream {
         Ok(file) => {
             let mut out = expand(&file, Some(&rel));
             // Rebuild when the file changes.
-            out.extend(quote!(const _: &str = include_str!(#track);));
+            out.extend(quote!(
+                const _: &str = include_str!(#track);
+            ));
             out.into()
         }
         Err(diags) => {
             let msg = diags.render(&rel);
-            syn::Error::new(lit.span(), msg.trim_end()).into_compile_error().into()
+            syn::Error::new(lit.span(), msg.trim_end())
+                .into_compile_error()
+                .into()
         }
     }
 }

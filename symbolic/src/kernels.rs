@@ -37,7 +37,10 @@ impl KernelSet {
 
     /// Names of the conserved momenta (`p_t`, `p_phi`, …).
     pub fn conserved_names(&self) -> Vec<String> {
-        self.cyclic.iter().map(|&k| format!("p_{}", self.coords[k])).collect()
+        self.cyclic
+            .iter()
+            .map(|&k| format!("p_{}", self.coords[k]))
+            .collect()
     }
 }
 
@@ -57,9 +60,10 @@ fn lower_all(model: &MetricModel, d: &Derivation) -> KernelSet {
             let (outs, shape) = match kind {
                 KernelKind::Metric => (flat2(&model.metric), vec![n, n]),
                 KernelKind::InverseMetric => (flat2(&d.inverse), vec![n, n]),
-                KernelKind::Christoffel => {
-                    (d.christoffel.iter().flatten().flatten().copied().collect(), vec![n, n, n])
-                }
+                KernelKind::Christoffel => (
+                    d.christoffel.iter().flatten().flatten().copied().collect(),
+                    vec![n, n, n],
+                ),
                 KernelKind::Accel => (d.accel.clone(), vec![n]),
                 KernelKind::Hamilton => {
                     let mut o = d.hamilton_dx.clone();
@@ -68,12 +72,14 @@ fn lower_all(model: &MetricModel, d: &Derivation) -> KernelSet {
                 }
                 KernelKind::Transport => (d.transport.clone(), vec![n]),
                 KernelKind::Norm => (vec![d.norm], vec![]),
-                KernelKind::Conserved => {
-                    (d.conserved.iter().map(|c| c.1).collect(), vec![d.conserved.len()])
-                }
-                KernelKind::Invariants => {
-                    (d.invariants.iter().map(|c| c.1).collect(), vec![d.invariants.len()])
-                }
+                KernelKind::Conserved => (
+                    d.conserved.iter().map(|c| c.1).collect(),
+                    vec![d.conserved.len()],
+                ),
+                KernelKind::Invariants => (
+                    d.invariants.iter().map(|c| c.1).collect(),
+                    vec![d.invariants.len()],
+                ),
             };
             lower(s, kind, n, &outs, shape)
         })

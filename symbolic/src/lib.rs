@@ -1,5 +1,7 @@
 //! geokern's engine: from a metric declaration to optimized straight-line kernels.
 #![warn(missing_docs)]
+// Tensor code reads best with the indices of the formulas it implements.
+#![allow(clippy::needless_range_loop)]
 
 pub mod backend;
 pub mod expr;

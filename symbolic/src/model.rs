@@ -11,7 +11,11 @@ use crate::parse::{Diagnostic, Diagnostics};
 
 /// Builds the model of one declared metric, reporting every problem found.
 pub fn build_model(decl: &MetricDecl) -> Result<MetricModel, Diagnostics> {
-    let mut b = Builder { store: Store::new(), lets: Vec::new(), errors: Vec::new() };
+    let mut b = Builder {
+        store: Store::new(),
+        lets: Vec::new(),
+        errors: Vec::new(),
+    };
     let coords: Vec<String> = decl.coords.iter().map(|c| c.to_string()).collect();
     let params: Vec<String> = decl.params.iter().map(|p| p.to_string()).collect();
     let n = coords.len();
@@ -34,7 +38,13 @@ pub fn build_model(decl: &MetricDecl) -> Result<MetricModel, Diagnostics> {
                 let e = b.lower(value, &symbols);
                 b.lets.push(e);
             }
-            ast::Item::Component { which, i, j, value, index_span } => {
+            ast::Item::Component {
+                which,
+                i,
+                j,
+                value,
+                index_span,
+            } => {
                 let e = b.lower(value, &symbols);
                 let target = match which {
                     Tensor::Metric => &mut metric,
@@ -95,27 +105,36 @@ impl Builder {
         match e {
             Expr::Number { value, .. } => self.store.num(value.clone()),
             Expr::Var { kind, name } => match *kind {
-                VarKind::Coordinate(k) => self.store.symbol(&syms.coords[k], SymbolKind::Coordinate(k)),
-                VarKind::Parameter(k) => self.store.symbol(&name.to_string(), SymbolKind::Parameter(k)),
+                VarKind::Coordinate(k) => self
+                    .store
+                    .symbol(&syms.coords[k], SymbolKind::Coordinate(k)),
+                VarKind::Parameter(k) => self
+                    .store
+                    .symbol(&name.to_string(), SymbolKind::Parameter(k)),
                 VarKind::Let(k) => match self.lets.get(k) {
                     Some(&id) => id,
                     None => {
-                        self.errors.push(Diagnostic::new(name.span(), format!("`{name}` is used before it is defined")));
+                        self.errors.push(Diagnostic::new(
+                            name.span(),
+                            format!("`{name}` is used before it is defined"),
+                        ));
                         self.store.int(0)
                     }
                 },
-                VarKind::Differential(k) => {
-                    self.store.symbol(&format!("d{}", syms.coords[k]), SymbolKind::Differential(k))
-                }
+                VarKind::Differential(k) => self
+                    .store
+                    .symbol(&format!("d{}", syms.coords[k]), SymbolKind::Differential(k)),
                 VarKind::Constant(Constant::Pi) => self.store.constant(NamedConst::Pi),
                 VarKind::Constant(Constant::E) => self.store.constant(NamedConst::E),
             },
-            Expr::Velocity { coord, .. } => {
-                self.store.symbol(&format!("u_{}", syms.coords[*coord]), SymbolKind::Velocity(*coord))
-            }
-            Expr::Momentum { coord, .. } => {
-                self.store.symbol(&format!("p_{}", syms.coords[*coord]), SymbolKind::Momentum(*coord))
-            }
+            Expr::Velocity { coord, .. } => self.store.symbol(
+                &format!("u_{}", syms.coords[*coord]),
+                SymbolKind::Velocity(*coord),
+            ),
+            Expr::Momentum { coord, .. } => self.store.symbol(
+                &format!("p_{}", syms.coords[*coord]),
+                SymbolKind::Momentum(*coord),
+            ),
             Expr::Neg { arg, .. } => {
                 let a = self.lower(arg, syms);
                 self.store.neg(a)
@@ -164,7 +183,10 @@ impl Builder {
                     ast::Func::Atan => self.store.call(Func::Atan, a),
                 };
                 if self.store.take_division_by_zero() {
-                    self.errors.push(Diagnostic::new(*span, "division by zero (a zero raised to a negative power)"));
+                    self.errors.push(Diagnostic::new(
+                        *span,
+                        "division by zero (a zero raised to a negative power)",
+                    ));
                 }
                 r
             }
@@ -180,8 +202,9 @@ impl Builder {
         coords: &[String],
     ) -> Result<Vec<Vec<ExprId>>, String> {
         let s = &mut self.store;
-        let ds: Vec<ExprId> =
-            (0..n).map(|i| s.symbol(&format!("d{}", coords[i]), SymbolKind::Differential(i))).collect();
+        let ds: Vec<ExprId> = (0..n)
+            .map(|i| s.symbol(&format!("d{}", coords[i]), SymbolKind::Differential(i)))
+            .collect();
         let half = Q::new(1.into(), 2.into());
         let zero = s.int(0);
         let mut g = vec![vec![zero; n]; n];
@@ -211,10 +234,12 @@ impl Builder {
         }
         let residual = s.lincomb(&parts);
         if !s.is_zero(residual) && !SamplePoints::standard().all_zero(s, residual) {
-            return Err("the line element is not quadratic in the differentials: it has terms of \
+            return Err(
+                "the line element is not quadratic in the differentials: it has terms of \
                         degree other than two (every term must be a product of exactly two \
                         differentials, e.g. `dt.powi(2)` or `2.0 * dt * dphi`)"
-                .to_string());
+                    .to_string(),
+            );
         }
         Ok(g)
     }
@@ -264,9 +289,11 @@ impl Builder {
             }
         }
         if checked == 0 {
-            return Err("the declared inverse metric could not be checked: g·ginv is not finite \
+            return Err(
+                "the declared inverse metric could not be checked: g·ginv is not finite \
                         at any sample point"
-                .to_string());
+                    .to_string(),
+            );
         }
         Ok(())
     }
@@ -278,8 +305,10 @@ pub fn compile(decl: &MetricDecl) -> Result<crate::kernels::KernelSet, Diagnosti
     crate::kernels::build(&mut model).map_err(|e| {
         let crate::geometry::InverseError::SingularBlock { coords } = &e;
         let names: Vec<String> = coords.iter().map(|&i| decl.coords[i].to_string()).collect();
-        let msg = format!("{e}: the block of coordinates {} is degenerate", names.join(", "));
+        let msg = format!(
+            "{e}: the block of coordinates {} is degenerate",
+            names.join(", ")
+        );
         Diagnostics::new(Diagnostic::new(decl.name.span(), msg))
     })
 }
-

@@ -262,7 +262,11 @@ impl Store {
 /// negative power; `None` when the result is irrational (kept symbolic).
 fn rational_power(q: &Q, e: &Q) -> Option<Result<Q, ()>> {
     if q.is_zero() {
-        return Some(if e.is_negative() { Err(()) } else { Ok(Q::zero()) });
+        return Some(if e.is_negative() {
+            Err(())
+        } else {
+            Ok(Q::zero())
+        });
     }
     if q.is_one() {
         return Some(Ok(Q::one()));

@@ -21,7 +21,7 @@ impl Store {
             }
             Node::Symbol(n) => out.push_str(&self.symbols()[*n as usize].name),
             Node::Constant(NamedConst::Pi) => out.push_str("PI"),
-            Node::Constant(NamedConst::E) => out.push_str("E"),
+            Node::Constant(NamedConst::E) => out.push('E'),
             Node::Add(c, terms) => {
                 out.push('(');
                 let mut first = true;

@@ -10,11 +10,11 @@
 //! output is ordered by id, never by hash.
 //!
 //! ```
-//! use geokern_symbolic::expr::{Store, SymbolKind};
+//! use geokern_symbolic::expr::{Store, SymbolKind, Q};
 //! let mut s = Store::new();
 //! let r = s.symbol("r", SymbolKind::Coordinate(0));
 //! let two_r = s.add(&[r, r]);
-//! let also = s.scale(r, 2.into());
+//! let also = s.scale(r, Q::from_integer(2.into()));
 //! assert_eq!(two_r, also);
 //! ```
 
@@ -288,7 +288,10 @@ impl Store {
             return id;
         }
         let n = self.symbols.len() as u32;
-        self.symbols.push(Symbol { name: name.to_string(), kind });
+        self.symbols.push(Symbol {
+            name: name.to_string(),
+            kind,
+        });
         let id = self.intern(Node::Symbol(n));
         self.symbol_ids.insert(kind, id);
         id

@@ -33,8 +33,10 @@ pub fn invert(s: &mut Store, g: &[Vec<ExprId>]) -> Result<Vec<Vec<ExprId>>, Inve
     let zero = s.int(0);
     let mut inv = vec![vec![zero; n]; n];
     for block in blocks(s, g) {
-        let m: Vec<Vec<ExprId>> =
-            block.iter().map(|&i| block.iter().map(|&j| g[i][j]).collect()).collect();
+        let m: Vec<Vec<ExprId>> = block
+            .iter()
+            .map(|&i| block.iter().map(|&j| g[i][j]).collect())
+            .collect();
         let (det, adj) = match block.len() {
             1 => (m[0][0], vec![vec![s.int(1)]]),
             2 => {
@@ -73,7 +75,9 @@ pub fn invert(s: &mut Store, g: &[Vec<ExprId>]) -> Result<Vec<Vec<ExprId>>, Inve
 fn check_nonsingular(s: &Store, det: ExprId, block: &[usize]) -> Result<(), InverseError> {
     let singular = s.is_zero(det) || SamplePoints::standard().all_zero(s, det);
     if singular {
-        Err(InverseError::SingularBlock { coords: block.to_vec() })
+        Err(InverseError::SingularBlock {
+            coords: block.to_vec(),
+        })
     } else {
         Ok(())
     }
@@ -124,7 +128,11 @@ fn adjugate(s: &mut Store, m: &[Vec<ExprId>]) -> (ExprId, Vec<Vec<ExprId>>) {
     for i in 0..n {
         for j in i..n {
             let minor = minor_det(s, m, full & !(1 << i), full & !(1 << j), &mut memo);
-            let c = if (i + j) % 2 == 0 { minor } else { s.neg(minor) };
+            let c = if (i + j) % 2 == 0 {
+                minor
+            } else {
+                s.neg(minor)
+            };
             cof[i][j] = c;
             cof[j][i] = c;
         }
@@ -197,8 +205,9 @@ fn gauss_jordan_det(s: &mut Store, m: &[Vec<ExprId>]) -> ExprId {
 fn gauss_jordan(s: &mut Store, m: &[Vec<ExprId>]) -> Vec<Vec<ExprId>> {
     let n = m.len();
     let mut a: Vec<Vec<ExprId>> = m.to_vec();
-    let mut b: Vec<Vec<ExprId>> =
-        (0..n).map(|i| (0..n).map(|j| s.int(i64::from(i == j))).collect()).collect();
+    let mut b: Vec<Vec<ExprId>> = (0..n)
+        .map(|i| (0..n).map(|j| s.int(i64::from(i == j))).collect())
+        .collect();
     for k in 0..n {
         let rp = s.powi(a[k][k], -1);
         for j in 0..n {

@@ -177,7 +177,11 @@ pub fn derive(model: &mut MetricModel) -> Result<Derivation, InverseError> {
             .map(|d| {
                 let dv = contract(s, &dg[d], &v);
                 let q = dot(s, &u, &dv);
-                s.lincomb(&[(a1[d], half.clone()), (a2[d], half.clone()), (q, -half.clone())])
+                s.lincomb(&[
+                    (a1[d], half.clone()),
+                    (a2[d], half.clone()),
+                    (q, -half.clone()),
+                ])
             })
             .collect();
         raise_negated(s, &inverse, &w)
@@ -187,7 +191,11 @@ pub fn derive(model: &mut MetricModel) -> Result<Derivation, InverseError> {
     let norm = dot(s, &u, &gu);
 
     let conserved: Vec<(usize, ExprId)> = (0..n)
-        .filter(|&k| g.iter().flatten().all(|&e| !s.depends_on(e, SymbolKind::Coordinate(k))))
+        .filter(|&k| {
+            g.iter()
+                .flatten()
+                .all(|&e| !s.depends_on(e, SymbolKind::Coordinate(k)))
+        })
         .map(|k| (k, gu[k]))
         .collect();
 

@@ -13,7 +13,10 @@ pub struct SamplePoints {
 impl SamplePoints {
     /// The set every check of the engine uses: 12 points, fixed seed.
     pub fn standard() -> SamplePoints {
-        SamplePoints { count: 12, seed: 0x9e37_79b9_7f4a_7c15 }
+        SamplePoints {
+            count: 12,
+            seed: 0x9e37_79b9_7f4a_7c15,
+        }
     }
 
     /// Number of points.
@@ -38,9 +41,7 @@ impl SamplePoints {
 
     /// Values of `roots` at point `k`.
     pub fn eval(&self, s: &Store, roots: &[ExprId], k: usize) -> Vec<f64> {
-        let index_of = |sym: &Symbol| {
-            s.symbols().iter().position(|t| t == sym).unwrap_or(0)
-        };
+        let index_of = |sym: &Symbol| s.symbols().iter().position(|t| t == sym).unwrap_or(0);
         let vals = s.eval_all(roots, &|sym| self.value(k, index_of(sym)));
         roots.iter().map(|r| vals[r.index()]).collect()
     }

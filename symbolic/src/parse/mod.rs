@@ -1,9 +1,9 @@
 //! Reading metric declarations: tokens or text in, a checked [`ast::File`] out.
 //!
 //! The proc macro hands over its tokens ([`parse_tokens`]); the command-line tool hands over
-//! the text of a `.gk` file ([`parse_str`]). Both go through the same parser
-//! ([`syntax`](self::syntax)) and the same checks ([`validate`](self::validate)), so a
-//! declaration means the same thing, and fails with the same messages, in both.
+//! the text of a `.gk` file ([`parse_str`]). Both go through the same parser (`syntax.rs`)
+//! and the same checks (`validate.rs`), so a declaration means the same thing, and fails
+//! with the same messages, in both.
 //!
 //! ```
 //! use geokern_symbolic::parse::{self, ast::{Item, Tensor}};
@@ -153,10 +153,7 @@ fn lex_diagnostic(source: &str, error: &proc_macro2::LexError) -> Diagnostic {
         Some('"') => "unterminated string literal (strings are not used in declarations)".into(),
         Some('\'') => "unterminated character literal".into(),
         Some(c) if c.is_ascii_digit() => "malformed number literal".into(),
-        Some(c) if c.is_whitespace() || c.is_control() => {
-            format!("unexpected character {c:?}")
-        }
-        Some(c) => format!("unexpected character `{c}`"),
+        Some(c) => format!("unexpected character {c:?}"),
         None => "unexpected end of text".into(),
     };
     Diagnostic::new(span, message)

@@ -5,7 +5,7 @@
 //! components, and whether a struct defines its metric at all. Errors are collected, not
 //! returned early, so one run reports them all.
 
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, BTreeSet};
 
 use proc_macro2::{Ident, Span};
 
@@ -184,7 +184,7 @@ impl<'e> StructChecker<'e> {
     }
 
     fn check_options(&mut self, options: &[Ident]) {
-        let mut seen: BTreeMap<String, ()> = BTreeMap::new();
+        let mut seen: BTreeSet<String> = BTreeSet::new();
         for option in options {
             let name = option.to_string();
             if !KNOWN_OPTIONS.contains(&name.as_str()) {
@@ -195,7 +195,7 @@ impl<'e> StructChecker<'e> {
                         KNOWN_OPTIONS.join(", ")
                     ),
                 );
-            } else if seen.insert(name.clone(), ()).is_some() {
+            } else if !seen.insert(name.clone()) {
                 self.errors
                     .error(option.span(), format!("option `{name}` is given twice"));
             }
@@ -210,14 +210,17 @@ impl<'e> StructChecker<'e> {
                 name.span(),
                 format!("the name `{text}` is reserved for {what}; choose another name"),
             );
+            // Still known, so that its uses are not reported as well.
+            self.names.entry(text).or_insert((kind, name.span()));
             return false;
         }
-        if let Some((previous, _)) = self.names.get(&text) {
+        if let Some((previous, at)) = self.names.get(&text) {
             self.errors.error(
                 name.span(),
                 format!(
-                    "the name `{text}` is already used by {}",
-                    previous.describe()
+                    "the name `{text}` is already used by {}{}",
+                    previous.describe(),
+                    at_line(*at)
                 ),
             );
             return false;

@@ -10,7 +10,6 @@
 
 use std::collections::HashMap;
 
-
 use crate::expr::{ExprId, Node, Store, Q};
 
 /// A factor of a product: a base to a positive rational power, or a named pair of factors.
@@ -92,7 +91,10 @@ impl Factoring {
         }
         f.pair_products(&mut product_lists);
         f.pair_sums(&mut sum_lists);
-        f.products = product_lists.into_iter().map(|(id, n, d)| (id, (n, d))).collect();
+        f.products = product_lists
+            .into_iter()
+            .map(|(id, n, d)| (id, (n, d)))
+            .collect();
         f.sums = sum_lists.into_iter().collect();
         f
     }
@@ -162,7 +164,9 @@ impl Factoring {
                 let l = &mut lists[li].1;
                 let pa = l.iter().position(|(t, _)| *t == a);
                 let pb = l.iter().position(|(t, _)| *t == b);
-                let (Some(pa), Some(pb)) = (pa, pb) else { continue };
+                let (Some(pa), Some(pb)) = (pa, pb) else {
+                    continue;
+                };
                 let (ka, kb) = (l[pa].1.clone(), l[pb].1.clone());
                 if kb != &ka * &ratio {
                     continue;
@@ -194,7 +198,10 @@ struct PairCounts<K: Ord + Clone + std::hash::Hash> {
 
 impl<K: Ord + Clone + std::hash::Hash> Default for PairCounts<K> {
     fn default() -> Self {
-        PairCounts { counts: HashMap::new(), queue: std::collections::BTreeSet::new() }
+        PairCounts {
+            counts: HashMap::new(),
+            queue: std::collections::BTreeSet::new(),
+        }
     }
 }
 
@@ -212,7 +219,10 @@ impl<K: Ord + Clone + std::hash::Hash> PairCounts<K> {
 
     /// The most frequent pair, if it occurs at least twice.
     fn best(&self) -> Option<K> {
-        self.queue.first().filter(|(c, _)| c.0 >= 2).map(|(_, k)| k.clone())
+        self.queue
+            .first()
+            .filter(|(c, _)| c.0 >= 2)
+            .map(|(_, k)| k.clone())
     }
 }
 

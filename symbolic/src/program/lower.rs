@@ -38,8 +38,17 @@ pub fn lower(
         sum_memo: HashMap::new(),
     };
     let outs: Vec<Val> = outputs.iter().map(|&e| l.lower(e)).collect();
-    KernelProgram { kind, dim, instrs: l.instrs, outputs: outs, shape }
+    KernelProgram {
+        kind,
+        dim,
+        instrs: l.instrs,
+        outputs: outs,
+        shape,
+    }
 }
+
+/// A sign-normalised sum: its constant and its (term, coefficient) list.
+type SumKey = (Q, Vec<(usize, Q)>);
 
 struct Lowerer<'a> {
     store: &'a Store,
@@ -49,7 +58,7 @@ struct Lowerer<'a> {
     factoring: Factoring,
     factor_vals: HashMap<usize, (Val, bool)>,
     term_vals: HashMap<usize, (Val, bool)>,
-    sum_memo: HashMap<(Q, Vec<(usize, Q)>), (Val, bool)>,
+    sum_memo: HashMap<SumKey, (Val, bool)>,
 }
 
 impl Lowerer<'_> {
@@ -265,7 +274,9 @@ impl Lowerer<'_> {
             sign ^= negated;
             vals.push(v);
         }
-        let v = self.product(&vals).unwrap_or_else(|| self.constant(Q::one()));
+        let v = self
+            .product(&vals)
+            .unwrap_or_else(|| self.constant(Q::one()));
         (v, sign)
     }
 

@@ -1,0 +1,372 @@
+//! A metric read at run time, driven through the runtime's [`MetricKernels`] trait.
+//!
+//! [`TapeSet`] holds one [`Tape`] per kernel of a metric, with its parameter values;
+//! [`TapeMetric`] views it at a dimension fixed at compile time, so the runtime's integrators,
+//! events and monitors drive it exactly as they drive a struct made by `geokern::metric!`.
+//! The [`with_dimension!`](crate::with_dimension) macro turns the dimension known at run time
+//! into that constant.
+
+use std::cell::RefCell;
+
+use geokern_runtime::MetricKernels;
+use geokern_symbolic::kernels::KernelSet;
+use geokern_symbolic::program::KernelKind;
+
+use crate::tape::{Inputs, Registers, Tape, TapeError};
+
+/// Every kernel of one metric on tapes, with the names and parameter values they need.
+#[derive(Clone, Debug)]
+pub struct TapeSet {
+    /// The metric's name.
+    pub name: String,
+    /// Coordinate names in declared order.
+    pub coords: Vec<String>,
+    /// Names of the conserved momenta (`p_t`, `p_phi`, ...).
+    pub conserved: Vec<String>,
+    /// Names of the user's invariants.
+    pub invariants: Vec<String>,
+    /// Parameter names in declared order.
+    pub param_names: Vec<String>,
+    /// Parameter values in declared order.
+    pub params: Vec<f64>,
+    tapes: Vec<Tape>,
+}
+
+impl TapeSet {
+    /// Compiles every kernel of `kernels`, with parameter values `params` (declared order).
+    pub fn new(kernels: &KernelSet, params: &[f64]) -> Result<TapeSet, TapeError> {
+        let tapes = KernelKind::ALL
+            .iter()
+            .map(|&k| Tape::compile(kernels.program(k), kernels.params.len()))
+            .collect::<Result<Vec<_>, _>>()?;
+        Ok(TapeSet {
+            name: kernels.name.clone(),
+            coords: kernels.coords.clone(),
+            conserved: kernels.conserved_names(),
+            invariants: kernels.invariant_names.clone(),
+            param_names: kernels.params.clone(),
+            params: params.to_vec(),
+            tapes,
+        })
+    }
+
+    /// The dimension of the metric.
+    pub fn dim(&self) -> usize {
+        self.coords.len()
+    }
+
+    /// The tape of one kernel.
+    pub fn tape(&self, kind: KernelKind) -> &Tape {
+        // `tapes` is built from KernelKind::ALL, so the position always exists.
+        &self.tapes[KernelKind::ALL.iter().position(|k| *k == kind).unwrap_or(0)]
+    }
+
+    /// Evaluates one kernel into a new vector (convenient, allocating: for one-off values;
+    /// [`TapeMetric`] is the allocation-free path).
+    pub fn eval(&self, kind: KernelKind, inputs: &Inputs<'_>) -> Vec<f64> {
+        let tape = self.tape(kind);
+        let mut registers = tape.registers(&self.params);
+        let mut out = vec![0.0; tape.output_len()];
+        tape.eval(&mut registers, inputs, &mut out);
+        out
+    }
+}
+
+/// One tape with its register file, borrowed mutably for each evaluation.
+#[derive(Debug)]
+struct Bound<'a> {
+    tape: &'a Tape,
+    registers: RefCell<Registers>,
+}
+
+impl Bound<'_> {
+    fn eval(&self, inputs: &Inputs<'_>, out: &mut [f64]) {
+        // Kernels never call each other, so the borrow cannot be held twice.
+        let mut registers = self.registers.borrow_mut();
+        self.tape.eval(&mut registers, inputs, out);
+    }
+}
+
+/// A [`TapeSet`] at dimension `N`, implementing [`MetricKernels<f64, N>`].
+///
+/// Holds one register file per kernel, so no evaluation allocates. Not `Sync`: give each
+/// thread its own view of the shared `TapeSet`.
+#[derive(Debug)]
+pub struct TapeMetric<'a, const N: usize> {
+    coords: Vec<&'a str>,
+    conserved_names: Vec<&'a str>,
+    invariant_names: Vec<&'a str>,
+    kernels: Vec<Bound<'a>>,
+}
+
+impl<'a, const N: usize> TapeMetric<'a, N> {
+    /// A view of `set`, or `None` if its dimension is not `N`.
+    pub fn new(set: &'a TapeSet) -> Option<Self> {
+        if set.dim() != N {
+            return None;
+        }
+        let kernels = KernelKind::ALL
+            .iter()
+            .map(|&k| {
+                let tape = set.tape(k);
+                Bound {
+                    tape,
+                    registers: RefCell::new(tape.registers(&set.params)),
+                }
+            })
+            .collect();
+        Some(TapeMetric {
+            coords: set.coords.iter().map(String::as_str).collect(),
+            conserved_names: set.conserved.iter().map(String::as_str).collect(),
+            invariant_names: set.invariants.iter().map(String::as_str).collect(),
+            kernels,
+        })
+    }
+
+    fn kernel(&self, kind: KernelKind) -> &Bound<'a> {
+        &self.kernels[KernelKind::ALL.iter().position(|k| *k == kind).unwrap_or(0)]
+    }
+}
+
+impl<const N: usize> MetricKernels<f64, N> for TapeMetric<'_, N> {
+    fn coordinate_names(&self) -> &[&str] {
+        &self.coords
+    }
+
+    fn metric(&self, x: &[f64; N]) -> [[f64; N]; N] {
+        let mut g = [[0.0; N]; N];
+        let inputs = Inputs {
+            x,
+            ..Inputs::default()
+        };
+        self.kernel(KernelKind::Metric)
+            .eval(&inputs, g.as_flattened_mut());
+        g
+    }
+
+    fn inverse_metric(&self, x: &[f64; N]) -> [[f64; N]; N] {
+        let mut g = [[0.0; N]; N];
+        let inputs = Inputs {
+            x,
+            ..Inputs::default()
+        };
+        self.kernel(KernelKind::InverseMetric)
+            .eval(&inputs, g.as_flattened_mut());
+        g
+    }
+
+    fn christoffel(&self, x: &[f64; N]) -> [[[f64; N]; N]; N] {
+        let mut gamma = [[[0.0; N]; N]; N];
+        let inputs = Inputs {
+            x,
+            ..Inputs::default()
+        };
+        let flat = gamma.as_flattened_mut().as_flattened_mut();
+        self.kernel(KernelKind::Christoffel).eval(&inputs, flat);
+        gamma
+    }
+
+    fn geodesic_accel(&self, x: &[f64; N], u: &[f64; N]) -> [f64; N] {
+        let mut a = [0.0; N];
+        self.kernel(KernelKind::Accel).eval(
+            &Inputs {
+                x,
+                u,
+                ..Inputs::default()
+            },
+            &mut a,
+        );
+        a
+    }
+
+    fn hamilton_rhs(&self, x: &[f64; N], p: &[f64; N]) -> ([f64; N], [f64; N]) {
+        let mut both = [[0.0; N]; 2];
+        let inputs = Inputs {
+            x,
+            p,
+            ..Inputs::default()
+        };
+        self.kernel(KernelKind::Hamilton)
+            .eval(&inputs, both.as_flattened_mut());
+        (both[0], both[1])
+    }
+
+    fn parallel_transport(&self, x: &[f64; N], u: &[f64; N], v: &[f64; N]) -> [f64; N] {
+        let mut dv = [0.0; N];
+        self.kernel(KernelKind::Transport).eval(
+            &Inputs {
+                x,
+                u,
+                v,
+                ..Inputs::default()
+            },
+            &mut dv,
+        );
+        dv
+    }
+
+    fn norm(&self, x: &[f64; N], u: &[f64; N]) -> f64 {
+        let mut n = [0.0];
+        self.kernel(KernelKind::Norm).eval(
+            &Inputs {
+                x,
+                u,
+                ..Inputs::default()
+            },
+            &mut n,
+        );
+        n[0]
+    }
+
+    fn conserved_names(&self) -> &[&str] {
+        &self.conserved_names
+    }
+
+    fn conserved(&self, x: &[f64; N], u: &[f64; N], out: &mut [f64]) {
+        self.kernel(KernelKind::Conserved).eval(
+            &Inputs {
+                x,
+                u,
+                ..Inputs::default()
+            },
+            out,
+        );
+    }
+
+    fn invariant_names(&self) -> &[&str] {
+        &self.invariant_names
+    }
+
+    fn invariants(&self, x: &[f64; N], u: &[f64; N], out: &mut [f64]) {
+        self.kernel(KernelKind::Invariants).eval(
+            &Inputs {
+                x,
+                u,
+                ..Inputs::default()
+            },
+            out,
+        );
+    }
+}
+
+/// Calls a function generic over a dimension `const N: usize` with the dimension known only
+/// at run time (1 to 16, the dimensions a metric may have).
+///
+/// `with_dimension!(n, f(args..))` expands to a `match` on `n` whose arm for each dimension
+/// calls `f::<N>(args..)`; it evaluates to `Some(result)`, or `None` when `n` is out of range.
+///
+/// ```
+/// fn zeros<const N: usize>(scale: f64) -> Vec<f64> { [scale * 0.0; N].to_vec() }
+/// let v = geokern_cli::with_dimension!(3, zeros(2.0));
+/// assert_eq!(v, Some(vec![0.0; 3]));
+/// assert_eq!(geokern_cli::with_dimension!(17, zeros(2.0)), None);
+/// ```
+#[macro_export]
+macro_rules! with_dimension {
+    ($n:expr, $f:ident ( $($arg:expr),* $(,)? )) => {
+        $crate::with_dimension!(@arms $n, $f, ($($arg),*),
+            1 2 3 4 5 6 7 8 9 10 11 12 13 14 15 16)
+    };
+    (@arms $n:expr, $f:ident, $args:tt, $($d:literal)*) => {
+        match $n {
+            $( $d => Some($crate::with_dimension!(@call $f, $d, $args)), )*
+            _ => None,
+        }
+    };
+    (@call $f:ident, $d:literal, ($($arg:expr),*)) => {
+        $f::<$d>($($arg),*)
+    };
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::source;
+
+    /// The trait methods return the flat kernel outputs in the documented index order.
+    #[test]
+    fn trait_methods_lay_out_the_kernels() {
+        let text = "struct S { coords: [t, r, phi], params: [k],
+            g[t, t] = -(1.0 - k / r); g[r, r] = 1.0 / (1.0 - k / r); g[phi, phi] = r.powi(2);
+            g[t, phi] = 0.1 * r;
+            invariant e2 = p[t].powi(2); }";
+        let loaded = source::load_bytes("s.gk", text.as_bytes(), None).expect("derives");
+        let set = TapeSet::new(&loaded.kernels, &[0.5]).expect("tapes");
+        let m = TapeMetric::<3>::new(&set).expect("three dimensions");
+        assert!(TapeMetric::<4>::new(&set).is_none());
+        let (x, u, p, v) = (
+            [0.0, 3.0, 0.2],
+            [1.3, 0.1, 0.05],
+            [-1.0, 0.2, 2.0],
+            [0.3, -0.1, 0.7],
+        );
+        let flat = |kind, inputs: Inputs<'_>| set.eval(kind, &inputs);
+        let at_x = Inputs {
+            x: &x,
+            ..Inputs::default()
+        };
+        assert_eq!(m.metric(&x).as_flattened(), flat(KernelKind::Metric, at_x));
+        assert_eq!(
+            m.inverse_metric(&x).as_flattened(),
+            flat(KernelKind::InverseMetric, at_x)
+        );
+        let gamma = flat(KernelKind::Christoffel, at_x);
+        let g = m.christoffel(&x);
+        for a in 0..3 {
+            for b in 0..3 {
+                for c in 0..3 {
+                    assert_eq!(g[a][b][c], gamma[(a * 3 + b) * 3 + c]);
+                }
+            }
+        }
+        // Γ^r_φφ does not vanish here, so the loop above compared real values.
+        assert!(g[1][2][2] != 0.0);
+        let with_u = Inputs {
+            x: &x,
+            u: &u,
+            ..Inputs::default()
+        };
+        assert_eq!(
+            m.geodesic_accel(&x, &u).to_vec(),
+            flat(KernelKind::Accel, with_u)
+        );
+        assert_eq!(vec![m.norm(&x, &u)], flat(KernelKind::Norm, with_u));
+        let (dx, dp) = m.hamilton_rhs(&x, &p);
+        let both = flat(
+            KernelKind::Hamilton,
+            Inputs {
+                x: &x,
+                p: &p,
+                ..Inputs::default()
+            },
+        );
+        assert_eq!([dx.to_vec(), dp.to_vec()].concat(), both);
+        let dv = m.parallel_transport(&x, &u, &v);
+        assert_eq!(
+            dv.to_vec(),
+            flat(
+                KernelKind::Transport,
+                Inputs {
+                    x: &x,
+                    u: &u,
+                    p: &[],
+                    v: &v
+                }
+            )
+        );
+        assert_eq!(m.coordinate_names(), ["t", "r", "phi"]);
+        assert_eq!(m.conserved_names(), ["p_t", "p_phi"]);
+        let mut conserved = [0.0; 2];
+        m.conserved(&x, &u, &mut conserved);
+        assert_eq!(conserved.to_vec(), flat(KernelKind::Conserved, with_u));
+        assert_eq!(m.invariant_names(), ["e2"]);
+        let mut e2 = [0.0];
+        m.invariants(&x, &u, &mut e2);
+        assert_eq!(e2.to_vec(), flat(KernelKind::Invariants, with_u));
+        // p_t = g_tt u^t + g_tphi u^phi, and the invariant is its square.
+        let g = m.metric(&x);
+        let p_t = g[0][0] * u[0] + g[0][2] * u[2];
+        assert!((conserved[0] - p_t).abs() < 1e-15);
+        assert!((e2[0] - p_t * p_t).abs() < 1e-14);
+    }
+}
