@@ -1,7 +1,10 @@
 //! The complete set of kernels of one metric: derivation followed by lowering.
 
 use crate::expr::ExprId;
-use crate::geometry::{derive, Derivation, InverseError, MetricModel};
+use crate::geometry::{
+    derive, derive_curvature, zero_status, Curvature, Derivation, InverseError, MetricModel,
+    ZeroStatus,
+};
 use crate::program::{lower, KernelKind, KernelProgram};
 
 /// Every kernel program of a metric, with what backends need to name and document them.
@@ -19,8 +22,14 @@ pub struct KernelSet {
     pub cyclic: Vec<usize>,
     /// Names of the user's invariants.
     pub invariant_names: Vec<String>,
-    /// One program per kernel, in [`KernelKind::ALL`] order.
+    /// One program per kernel, in [`KernelKind::ALL`] order, then the
+    /// [`KernelKind::CURVATURE`] programs when the declaration asked for them.
     pub programs: Vec<KernelProgram>,
+    /// For curvature-enabled metrics: each independent Ricci component `(a, b)` with a ≤ b,
+    /// and whether it vanishes (so a user sees at once whether a metric is a vacuum solution).
+    pub ricci_zeros: Vec<((usize, usize), ZeroStatus)>,
+    /// For curvature-enabled metrics: whether the Ricci scalar vanishes.
+    pub ricci_scalar_zero: Option<ZeroStatus>,
 }
 
 impl KernelSet {
@@ -29,10 +38,19 @@ impl KernelSet {
         self.coords.len()
     }
 
-    /// The program of one kernel.
+    /// The program of one of the [`KernelKind::ALL`] kernels (always present).
     pub fn program(&self, kind: KernelKind) -> &KernelProgram {
-        // `programs` is built from KernelKind::ALL, so every kind is present.
-        &self.programs[KernelKind::ALL.iter().position(|k| *k == kind).unwrap_or(0)]
+        self.try_program(kind).unwrap_or(&self.programs[0])
+    }
+
+    /// The program of a kernel, if this set has it (curvature kernels are opt-in).
+    pub fn try_program(&self, kind: KernelKind) -> Option<&KernelProgram> {
+        self.programs.iter().find(|p| p.kind == kind)
+    }
+
+    /// Whether the curvature kernels were generated.
+    pub fn has_curvature(&self) -> bool {
+        self.try_program(KernelKind::Riemann).is_some()
     }
 
     /// Names of the conserved momenta (`p_t`, `p_phi`, …).
@@ -47,14 +65,15 @@ impl KernelSet {
 /// Derives and lowers every kernel of `model`.
 pub fn build(model: &mut MetricModel) -> Result<KernelSet, InverseError> {
     let d = derive(model)?;
-    Ok(lower_all(model, &d))
+    let curvature = model.curvature.then(|| derive_curvature(model, &d));
+    Ok(lower_all(model, &d, curvature.as_ref()))
 }
 
-fn lower_all(model: &MetricModel, d: &Derivation) -> KernelSet {
+fn lower_all(model: &MetricModel, d: &Derivation, curv: Option<&Curvature>) -> KernelSet {
     let n = model.dim();
     let s = &model.store;
     let flat2 = |m: &[Vec<ExprId>]| m.iter().flatten().copied().collect::<Vec<_>>();
-    let programs = KernelKind::ALL
+    let mut programs: Vec<KernelProgram> = KernelKind::ALL
         .iter()
         .map(|&kind| {
             let (outs, shape) = match kind {
@@ -80,10 +99,41 @@ fn lower_all(model: &MetricModel, d: &Derivation) -> KernelSet {
                     d.invariants.iter().map(|c| c.1).collect(),
                     vec![d.invariants.len()],
                 ),
+                _ => (Vec::new(), vec![0]),
             };
             lower(s, kind, n, &outs, shape)
         })
         .collect();
+    let mut ricci_zeros = Vec::new();
+    let mut ricci_scalar_zero = None;
+    if let Some(c) = curv {
+        for kind in KernelKind::CURVATURE {
+            let (outs, shape) = match kind {
+                KernelKind::Riemann => (
+                    c.riemann
+                        .iter()
+                        .flatten()
+                        .flatten()
+                        .flatten()
+                        .copied()
+                        .collect(),
+                    vec![n, n, n, n],
+                ),
+                KernelKind::Ricci => (flat2(&c.ricci), vec![n, n]),
+                KernelKind::RicciScalar => (vec![c.ricci_scalar], vec![]),
+                KernelKind::Einstein => (flat2(&c.einstein), vec![n, n]),
+                KernelKind::Kretschmann => (vec![c.kretschmann], vec![]),
+                _ => (c.deviation.clone(), vec![n]),
+            };
+            programs.push(lower(s, kind, n, &outs, shape));
+        }
+        for a in 0..n {
+            for b in a..n {
+                ricci_zeros.push(((a, b), zero_status(s, c.ricci[a][b])));
+            }
+        }
+        ricci_scalar_zero = Some(zero_status(s, c.ricci_scalar));
+    }
     KernelSet {
         name: model.name.clone(),
         docs: model.docs.clone(),
@@ -92,5 +142,7 @@ fn lower_all(model: &MetricModel, d: &Derivation) -> KernelSet {
         cyclic: d.conserved.iter().map(|c| c.0).collect(),
         invariant_names: d.invariants.iter().map(|c| c.0.clone()).collect(),
         programs,
+        ricci_zeros,
+        ricci_scalar_zero,
     }
 }

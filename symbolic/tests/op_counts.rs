@@ -63,3 +63,32 @@ fn diagonal_metrics_need_no_division_beyond_their_reciprocals() {
     // 1/r, 1/f and 1/sin θ: one reciprocal per distinct denominator.
     assert!(c.div <= 3, "{c}");
 }
+
+#[test]
+fn kerr_with_curvature() {
+    let text = std::fs::read_to_string(format!(
+        "{}/../examples/metrics/kerr_bl.gk",
+        env!("CARGO_MANIFEST_DIR")
+    ))
+    .expect("example file")
+    .replace(
+        "params: [m, a],",
+        "params: [m, a],\n    options: [curvature],",
+    );
+    let parsed = parse_str(&text).expect("parses");
+    let start = Instant::now();
+    let ks = compile(&parsed.metrics[0]).expect("compiles");
+    eprintln!(
+        "kerr_bl with curvature: derived and scheduled in {:?}",
+        start.elapsed()
+    );
+    for kind in KernelKind::CURVATURE {
+        eprintln!("  {:<15} {}", kind.name(), ks.program(kind).op_counts());
+    }
+    eprintln!("  ricci zeros: {:?}", ks.ricci_zeros);
+    assert!(ks.has_curvature());
+    assert!(ks
+        .ricci_zeros
+        .iter()
+        .all(|(_, s)| *s != geokern_symbolic::geometry::ZeroStatus::Nonzero));
+}

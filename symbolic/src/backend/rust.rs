@@ -105,6 +105,7 @@ pub fn emit(ks: &KernelSet, opts: &RustOptions) -> TokenStream {
             }
         }
     });
+    let curvature_fns = curvature_methods(ks, &params, rt);
     let new_doc = format!(
         "A `{}` with the given parameters, in declared order.",
         ks.name
@@ -213,6 +214,7 @@ pub fn emit(ks: &KernelSet, opts: &RustOptions) -> TokenStream {
 
             #(#momentum_fns)*
             #(#invariant_fns)*
+            #curvature_fns
         }
 
         impl<T: #rt::Scalar> #rt::MetricKernels<T, #n_lit> for #name<T> {
@@ -244,6 +246,70 @@ pub fn emit(ks: &KernelSet, opts: &RustOptions) -> TokenStream {
             }
         }
     }
+}
+
+/// The opt-in curvature kernels (`options: [curvature]`), or nothing.
+fn curvature_methods(ks: &KernelSet, params: &[Ident], rt: &TokenStream) -> TokenStream {
+    if !ks.has_curvature() {
+        return TokenStream::new();
+    }
+    let n = Literal::usize_unsuffixed(ks.dim());
+    let mut out = TokenStream::new();
+    for kind in KernelKind::CURVATURE {
+        let Some(p) = ks.try_program(kind) else {
+            continue;
+        };
+        let b = body(p, params, rt);
+        let ops = doc_ops(p);
+        let c = ops_const(p, rt);
+        let (name, doc, args, ret) = match kind {
+            KernelKind::Riemann => (
+                "riemann",
+                "The Riemann tensor R^a_bcd at `x`, index order `[a][b][c][d]` (R^a_bcd = ∂_c Γ^a_db − ∂_d Γ^a_cb + Γ^a_ce Γ^e_db − Γ^a_de Γ^e_cb).",
+                quote!(x: &[T; #n]),
+                quote!([[[[T; #n]; #n]; #n]; #n]),
+            ),
+            KernelKind::Ricci => (
+                "ricci",
+                "The Ricci tensor R_bd = R^a_bad at `x`.",
+                quote!(x: &[T; #n]),
+                quote!([[T; #n]; #n]),
+            ),
+            KernelKind::RicciScalar => {
+                ("ricci_scalar", "The Ricci scalar R = g^bd R_bd at `x`.", quote!(x: &[T; #n]), quote!(T))
+            }
+            KernelKind::Einstein => (
+                "einstein",
+                "The Einstein tensor G_ab = R_ab − ½ g_ab R at `x`.",
+                quote!(x: &[T; #n]),
+                quote!([[T; #n]; #n]),
+            ),
+            KernelKind::Kretschmann => (
+                "kretschmann",
+                "The Kretschmann scalar R_abcd R^abcd at `x`.",
+                quote!(x: &[T; #n]),
+                quote!(T),
+            ),
+            _ => (
+                "geodesic_deviation",
+                "The geodesic-deviation right-hand side D²ξ^a/dλ² = −R^a_bcd u^b ξ^c u^d for a separation `v` = ξ along velocity `u`.",
+                quote!(x: &[T; #n], u: &[T; #n], v: &[T; #n]),
+                quote!([T; #n]),
+            ),
+        };
+        let f = format_ident!("{}", name);
+        let ops_name = format_ident!("{}_OPS", name.to_uppercase());
+        let ops_doc = format!("Operation counts of [`{name}`](Self::{name}).");
+        out.extend(quote! {
+            #[doc = #ops_doc]
+            pub const #ops_name: #rt::OpCount = #c;
+            #[doc = #doc]
+            #[doc = #ops]
+            #[inline]
+            pub fn #f(&self, #args) -> #ret { #b }
+        });
+    }
+    out
 }
 
 fn struct_docs(ks: &KernelSet) -> Vec<TokenStream> {

@@ -5,9 +5,11 @@
 //! acceleration contracts ∂g with the velocity before raising the index, so it never sums a
 //! full Γ array, and Hamilton's equations reuse the same contraction with u = g⁻¹p.
 
+mod curvature;
 mod inverse;
 mod sample;
 
+pub use curvature::{derive_curvature, zero_status, Curvature, ZeroStatus};
 pub use inverse::{invert, InverseError};
 pub use sample::SamplePoints;
 

@@ -93,6 +93,18 @@ pub enum KernelKind {
     Conserved,
     /// User invariants.
     Invariants,
+    /// R^a_bcd (with `options: [curvature]`).
+    Riemann,
+    /// R_ab (with `options: [curvature]`).
+    Ricci,
+    /// R (with `options: [curvature]`).
+    RicciScalar,
+    /// G_ab (with `options: [curvature]`).
+    Einstein,
+    /// R_abcd R^abcd (with `options: [curvature]`).
+    Kretschmann,
+    /// −R^a_bcd u^b ξ^c u^d, the geodesic-deviation right-hand side (with `options: [curvature]`).
+    Deviation,
 }
 
 impl KernelKind {
@@ -109,6 +121,16 @@ impl KernelKind {
         KernelKind::Invariants,
     ];
 
+    /// The curvature kernels, generated when a declaration asks for them.
+    pub const CURVATURE: [KernelKind; 6] = [
+        KernelKind::Riemann,
+        KernelKind::Ricci,
+        KernelKind::RicciScalar,
+        KernelKind::Einstein,
+        KernelKind::Kretschmann,
+        KernelKind::Deviation,
+    ];
+
     /// The kernel's short name (`christoffel`, `accel`, `hamilton`, …).
     pub fn name(self) -> &'static str {
         match self {
@@ -121,6 +143,12 @@ impl KernelKind {
             KernelKind::Norm => "norm",
             KernelKind::Conserved => "conserved",
             KernelKind::Invariants => "invariants",
+            KernelKind::Riemann => "riemann",
+            KernelKind::Ricci => "ricci",
+            KernelKind::RicciScalar => "ricci_scalar",
+            KernelKind::Einstein => "einstein",
+            KernelKind::Kretschmann => "kretschmann",
+            KernelKind::Deviation => "deviation",
         }
     }
 
@@ -128,9 +156,15 @@ impl KernelKind {
     pub fn inputs(self) -> &'static [InputArray] {
         use InputArray::*;
         match self {
-            KernelKind::Metric | KernelKind::InverseMetric | KernelKind::Christoffel => {
-                &[Params, X]
-            }
+            KernelKind::Metric
+            | KernelKind::InverseMetric
+            | KernelKind::Christoffel
+            | KernelKind::Riemann
+            | KernelKind::Ricci
+            | KernelKind::RicciScalar
+            | KernelKind::Einstein
+            | KernelKind::Kretschmann => &[Params, X],
+            KernelKind::Deviation => &[Params, X, U, V],
             KernelKind::Accel | KernelKind::Norm | KernelKind::Conserved => &[Params, X, U],
             KernelKind::Invariants => &[Params, X, U],
             KernelKind::Hamilton => &[Params, X, P],
