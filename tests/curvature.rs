@@ -172,28 +172,32 @@ fn reissner_nordstrom_is_trace_free_but_not_ricci_flat() {
 }
 
 #[test]
-fn engine_reports_which_ricci_components_vanish() {
-    use geokern_symbolic::{geometry::ZeroStatus, model::compile, parse::parse_str};
-    let status = |text: &str| {
-        let file = parse_str(text).expect("parses");
-        compile(&file.metrics[0]).expect("compiles").ricci_zeros
+fn engine_proves_schwarzschild_and_kerr_ricci_flat() {
+    // Both are vacuum solutions of Einstein's equations (Schwarzschild 1916, Kerr 1963): every
+    // Ricci component must come out as proved zero, not merely zero at sample points.
+    use geokern_symbolic::geometry::ZeroStatus;
+    use geokern_symbolic::model::{compile_with, CompileOptions};
+    use geokern_symbolic::parse::parse_str;
+    let status = |file: &str| {
+        let path = format!("{}/examples/metrics/{file}", env!("CARGO_MANIFEST_DIR"));
+        let text = std::fs::read_to_string(path).expect("example file");
+        let parsed = parse_str(&text).expect("parses");
+        let options = CompileOptions {
+            curvature: true,
+            prove_zeros: true,
+        };
+        let ks = compile_with(&parsed.metrics[0], &options).expect("compiles");
+        (ks.ricci_zeros, ks.ricci_scalar_zero)
     };
-    let schw = status(
-        "struct S { coords: [t, r, theta, phi], params: [m], options: [curvature],
-         let f = 1 - 2*m/r; g[t,t] = -f; g[r,r] = 1/f; g[theta,theta] = r.powi(2);
-         g[phi,phi] = (r*theta.sin()).powi(2); }",
-    );
-    assert_eq!(schw.len(), 10);
-    assert!(
-        schw.iter().all(|(_, s)| *s != ZeroStatus::Nonzero),
-        "{schw:?}"
-    );
-    let rn = status(
-        "struct R { coords: [t, r, theta, phi], params: [m, e], options: [curvature],
-         let f = 1 - 2*m/r + (e/r).powi(2); g[t,t] = -f; g[r,r] = 1/f; g[theta,theta] = r.powi(2);
-         g[phi,phi] = (r*theta.sin()).powi(2); }",
-    );
-    assert!(rn.iter().any(|(_, s)| *s == ZeroStatus::Nonzero));
+    for file in ["schwarzschild.gk", "kerr_bl.gk"] {
+        let (ricci, scalar) = status(file);
+        assert_eq!(ricci.len(), 10);
+        assert!(
+            ricci.iter().all(|(_, s)| *s == ZeroStatus::Proved),
+            "{file}: {ricci:?}"
+        );
+        assert_eq!(scalar, Some(ZeroStatus::Proved));
+    }
 }
 
 #[test]

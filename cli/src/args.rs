@@ -42,6 +42,10 @@ pub struct MetricFile {
     /// The metric to use when the file declares several.
     #[arg(long, value_name = "NAME")]
     pub metric: Option<String>,
+    /// Also derive the curvature kernels (Riemann, Ricci, Ricci scalar, Einstein,
+    /// Kretschmann, geodesic deviation), as `options: [curvature]` in the file would.
+    #[arg(long)]
+    pub curvature: bool,
 }
 
 /// Output format.

@@ -178,6 +178,8 @@ pub fn table(header: &[&str], rows: &[Vec<String>], indent: usize) -> String {
 pub fn op_table(kernels: &KernelSet, indent: usize) -> String {
     let rows: Vec<Vec<String>> = KernelKind::ALL
         .iter()
+        .chain(KernelKind::CURVATURE.iter())
+        .filter(|&&k| kernels.try_program(k).is_some())
         .map(|&k| {
             let c = kernels.program(k).op_counts();
             vec![

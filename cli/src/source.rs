@@ -35,6 +35,31 @@ pub fn load(path: &Path, metric: Option<&str>) -> Result<Loaded, CliError> {
     load_bytes(&name, &bytes, metric)
 }
 
+/// [`load`] for a command's file arguments, honouring `--curvature`.
+pub fn load_source(source: &crate::args::MetricFile) -> Result<Loaded, CliError> {
+    let (name, bytes) = read(&source.file)?;
+    load_bytes_with(
+        &name,
+        &bytes,
+        source.metric.as_deref(),
+        source.curvature,
+        false,
+    )
+}
+
+/// [`load_source`], also proving vanishing Ricci components exactly when `--curvature` is on
+/// (what `check` reports).
+pub fn load_source_proving(source: &crate::args::MetricFile) -> Result<Loaded, CliError> {
+    let (name, bytes) = read(&source.file)?;
+    load_bytes_with(
+        &name,
+        &bytes,
+        source.metric.as_deref(),
+        source.curvature,
+        true,
+    )
+}
+
 /// Reads a file's bytes, naming it as the user did.
 pub fn read(path: &Path) -> Result<(String, Vec<u8>), CliError> {
     if path.as_os_str() == "-" {
@@ -71,13 +96,28 @@ pub fn parse_bytes(name: &str, bytes: &[u8]) -> Result<ast::File, CliError> {
 
 /// [`load`] on bytes already read.
 pub fn load_bytes(name: &str, bytes: &[u8], metric: Option<&str>) -> Result<Loaded, CliError> {
+    load_bytes_with(name, bytes, metric, false, false)
+}
+
+/// [`load_bytes`], also deriving curvature kernels when `curvature` is set.
+pub fn load_bytes_with(
+    name: &str,
+    bytes: &[u8],
+    metric: Option<&str>,
+    curvature: bool,
+    prove_zeros: bool,
+) -> Result<Loaded, CliError> {
     let started = Instant::now();
     let file = parse_bytes(name, bytes)?;
     let parse_time = started.elapsed();
     let declared: Vec<String> = file.metrics.iter().map(|m| m.name.to_string()).collect();
     let decl = pick(name, &file, metric)?;
     let started = Instant::now();
-    let kernels = model::compile(decl).map_err(|d| declaration_error(name, &d))?;
+    let options = model::CompileOptions {
+        curvature,
+        prove_zeros: curvature && prove_zeros,
+    };
+    let kernels = model::compile_with(decl, &options).map_err(|d| declaration_error(name, &d))?;
     let derivation_time = started.elapsed();
     Ok(Loaded {
         file_name: name.to_string(),

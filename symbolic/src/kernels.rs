@@ -129,10 +129,10 @@ fn lower_all(model: &MetricModel, d: &Derivation, curv: Option<&Curvature>) -> K
         }
         for a in 0..n {
             for b in a..n {
-                ricci_zeros.push(((a, b), zero_status(s, c.ricci[a][b])));
+                ricci_zeros.push(((a, b), zero_status(s, c.ricci[a][b], model.prove_zeros)));
             }
         }
-        ricci_scalar_zero = Some(zero_status(s, c.ricci_scalar));
+        ricci_scalar_zero = Some(zero_status(s, c.ricci_scalar, model.prove_zeros));
     }
     KernelSet {
         name: model.name.clone(),

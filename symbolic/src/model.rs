@@ -87,6 +87,7 @@ pub fn build_model(decl: &MetricDecl) -> Result<MetricModel, Diagnostics> {
         declared_inverse: inverse,
         invariants,
         curvature: decl.has_option("curvature"),
+        prove_zeros: false,
     })
 }
 
@@ -301,7 +302,27 @@ impl Builder {
 
 /// Compiles one declaration to its kernels.
 pub fn compile(decl: &MetricDecl) -> Result<crate::kernels::KernelSet, Diagnostics> {
+    compile_with(decl, &CompileOptions::default())
+}
+
+/// What [`compile_with`] adds to what the declaration asks for.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct CompileOptions {
+    /// Derive the curvature kernels even without `options: [curvature]`.
+    pub curvature: bool,
+    /// Try to prove each vanishing Ricci component exactly (as one rational function), not
+    /// only check it at sample points. Costs seconds for Kerr in an optimized build.
+    pub prove_zeros: bool,
+}
+
+/// [`compile`] with extra [`CompileOptions`].
+pub fn compile_with(
+    decl: &MetricDecl,
+    options: &CompileOptions,
+) -> Result<crate::kernels::KernelSet, Diagnostics> {
     let mut model = build_model(decl)?;
+    model.prove_zeros = options.prove_zeros;
+    model.curvature |= options.curvature;
     crate::kernels::build(&mut model).map_err(|e| {
         let crate::geometry::InverseError::SingularBlock { coords } = &e;
         let names: Vec<String> = coords.iter().map(|&i| decl.coords[i].to_string()).collect();

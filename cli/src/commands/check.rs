@@ -12,7 +12,7 @@ use crate::{json, report, source};
 
 /// Runs `check`.
 pub fn run(args: &CheckArgs) -> Result<String, CliError> {
-    let loaded = source::load(&args.source.file, args.source.metric.as_deref())?;
+    let loaded = source::load_source_proving(&args.source)?;
     Ok(if args.format.json {
         json::to_text(&to_json(&loaded))
     } else {
@@ -46,15 +46,12 @@ fn to_json(loaded: &Loaded) -> Value {
         .collect();
     let ops: Map<String, Value> = KernelKind::ALL
         .iter()
-        .map(|&k| {
-            (
-                k.name().to_string(),
-                json::op_counts(&ks.program(k).op_counts()),
-            )
-        })
+        .chain(KernelKind::CURVATURE.iter())
+        .filter_map(|&k| ks.try_program(k).map(|p| (k, p)))
+        .map(|(k, p)| (k.name().to_string(), json::op_counts(&p.op_counts())))
         .collect();
     let cyclic: Vec<&str> = ks.cyclic.iter().map(|&k| ks.coords[k].as_str()).collect();
-    json!({
+    let mut out = json!({
         "file": loaded.file_name,
         "name": ks.name,
         "metrics_in_file": loaded.declared,
@@ -69,7 +66,63 @@ fn to_json(loaded: &Loaded) -> Value {
         "ops": ops,
         "parse_ms": loaded.parse_time.as_secs_f64() * 1e3,
         "derivation_ms": loaded.derivation_time.as_secs_f64() * 1e3,
-    })
+    });
+    if let (Some(scalar), Value::Object(map)) = (ks.ricci_scalar_zero, &mut out) {
+        let ricci: Vec<Value> = ks
+            .ricci_zeros
+            .iter()
+            .map(|&((a, b), status)| {
+                json!({
+                    "component": ricci_label(&ks.coords, a, b),
+                    "index": [a, b],
+                    "status": status.to_string(),
+                })
+            })
+            .collect();
+        map.insert(
+            "curvature".to_string(),
+            json!({
+                "ricci": ricci,
+                "ricci_scalar": scalar.to_string(),
+                "vacuum": is_vacuum(ks),
+            }),
+        );
+    }
+    out
+}
+
+fn ricci_label(coords: &[String], a: usize, b: usize) -> String {
+    metric_label(coords, a, b).replacen('g', "R", 1)
+}
+
+/// Every Ricci component vanishes (proved, or at every sample point).
+fn is_vacuum(ks: &geokern_symbolic::kernels::KernelSet) -> bool {
+    use geokern_symbolic::geometry::ZeroStatus;
+    ks.ricci_zeros
+        .iter()
+        .all(|(_, s)| *s != ZeroStatus::Nonzero)
+}
+
+/// The `--curvature` part of the text report: each Ricci component's status.
+fn curvature_text(ks: &geokern_symbolic::kernels::KernelSet, out: &mut String) {
+    let Some(scalar) = ks.ricci_scalar_zero else {
+        return;
+    };
+    let _ = writeln!(out, "  curvature     Ricci tensor, component by component:");
+    for &((a, b), status) in &ks.ricci_zeros {
+        let _ = writeln!(
+            out,
+            "                {:<12} {status}",
+            ricci_label(&ks.coords, a, b)
+        );
+    }
+    let _ = writeln!(out, "                {:<12} {scalar}", "R");
+    let verdict = if is_vacuum(ks) {
+        "every Ricci component vanishes: a vacuum solution"
+    } else {
+        "not a vacuum solution"
+    };
+    let _ = writeln!(out, "                {verdict}");
 }
 
 fn to_text(loaded: &Loaded) -> String {
@@ -122,6 +175,7 @@ fn to_text(loaded: &Loaded) -> String {
         "  invariants    {}",
         report::list_or_none(&ks.invariant_names)
     );
+    curvature_text(ks, &mut out);
     let _ = writeln!(out, "  op counts after common-subexpression elimination:");
     out.push_str(&report::op_table(ks, 4));
     let _ = writeln!(

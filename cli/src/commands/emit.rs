@@ -4,6 +4,7 @@
 //! written has no function, and asking for it is an error that lists what is available.
 
 use geokern_symbolic::backend::rust::{self, RustOptions};
+use geokern_symbolic::backend::{c, cuda, glsl, opencl, python, wgsl};
 use geokern_symbolic::kernels::KernelSet;
 use serde_json::json;
 
@@ -34,32 +35,32 @@ pub const BACKENDS: &[Backend] = &[
     Backend {
         name: "c",
         description: "a self-contained C99 header",
-        emit: None,
+        emit: Some(|ks| Ok(c::emit(ks))),
     },
     Backend {
         name: "cuda",
-        description: "CUDA device functions",
-        emit: None,
+        description: "CUDA device functions and batch kernels",
+        emit: Some(|ks| Ok(cuda::emit(ks))),
     },
     Backend {
         name: "opencl",
-        description: "OpenCL C functions",
-        emit: None,
+        description: "OpenCL C functions and batch kernels",
+        emit: Some(|ks| Ok(opencl::emit(ks))),
     },
     Backend {
         name: "wgsl",
-        description: "WGSL functions",
-        emit: None,
+        description: "WGSL functions (f32)",
+        emit: Some(|ks| Ok(wgsl::emit(ks))),
     },
     Backend {
         name: "glsl",
-        description: "GLSL functions",
-        emit: None,
+        description: "GLSL functions (f32)",
+        emit: Some(|ks| Ok(glsl::emit(ks))),
     },
     Backend {
         name: "python",
         description: "NumPy functions vectorised over points",
-        emit: None,
+        emit: Some(|ks| Ok(python::emit(ks))),
     },
 ];
 
@@ -106,7 +107,7 @@ fn emit_rust(kernels: &KernelSet) -> Result<String, String> {
 /// Runs `emit`.
 pub fn run(args: &EmitArgs) -> Result<String, CliError> {
     let emit = backend(&args.lang)?;
-    let loaded = source::load(&args.source.file, args.source.metric.as_deref())?;
+    let loaded = source::load_source(&args.source)?;
     let text = emit(&loaded.kernels).map_err(CliError::Emit)?;
     Ok(if args.format.json {
         json::to_text(

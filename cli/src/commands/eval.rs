@@ -2,7 +2,7 @@
 
 use std::fmt::Write;
 
-use geokern_symbolic::program::KernelKind;
+use geokern_symbolic::program::{InputArray, KernelKind};
 use serde_json::{Map, Value};
 
 use crate::args::EvalArgs;
@@ -23,6 +23,8 @@ struct Values {
     velocity: Option<WithVelocity>,
     /// dx/dλ, dp/dλ (with `--p`).
     hamilton: Option<(Vec<f64>, Vec<f64>)>,
+    /// The curvature kernels' values (with `--curvature` or `options: [curvature]`).
+    curvature: Vec<(KernelKind, Vec<f64>)>,
 }
 
 /// The kernels that need a velocity.
@@ -35,7 +37,7 @@ struct WithVelocity {
 
 /// Runs `eval`.
 pub fn run(args: &EvalArgs) -> Result<String, CliError> {
-    let loaded = source::load(&args.source.file, args.source.metric.as_deref())?;
+    let loaded = source::load_source(&args.source)?;
     let ks = &loaded.kernels;
     let params = source::bind_params(ks, &args.params)?;
     let x = source::parse_vector("--x", &args.x, &ks.coords)?;
@@ -84,7 +86,26 @@ pub fn run(args: &EvalArgs) -> Result<String, CliError> {
             let (dx, dp) = both.split_at(both.len() / 2);
             (dx.to_vec(), dp.to_vec())
         }),
+        curvature: Vec::new(),
     };
+    let mut values = values;
+    for kind in KernelKind::CURVATURE {
+        if kind == KernelKind::Deviation {
+            continue;
+        }
+        if let Some(program) = ks.try_program(kind) {
+            let mut out = Vec::new();
+            program.eval_f64(
+                &|arr| match arr {
+                    InputArray::Params => params.clone(),
+                    InputArray::X => x.clone(),
+                    _ => Vec::new(),
+                },
+                &mut out,
+            );
+            values.curvature.push((kind, out));
+        }
+    }
     let point = Point {
         set: &set,
         x: &x,
@@ -149,6 +170,19 @@ fn to_json(pt: &Point<'_>, v: &Values) -> Value {
         h.insert("dx".into(), json::vector(dx));
         h.insert("dp".into(), json::vector(dp));
         m.insert("hamilton".into(), Value::Object(h));
+    }
+    for (kind, values) in &v.curvature {
+        let shape: Vec<usize> = match kind {
+            KernelKind::Riemann => vec![n, n, n, n],
+            KernelKind::Ricci | KernelKind::Einstein => vec![n, n],
+            _ => vec![],
+        };
+        let value = if shape.is_empty() {
+            json::number(values.first().copied().unwrap_or(f64::NAN))
+        } else {
+            json::nested(values, &shape)
+        };
+        m.insert(kind.name().into(), value);
     }
     Value::Object(m)
 }
@@ -230,6 +264,27 @@ fn to_text(pt: &Point<'_>, v: &Values) -> String {
         let _ = writeln!(out, "  with p = {}", report::vector(p, DIGITS));
         let _ = writeln!(out, "    dx/dλ  {}", report::vector(dx, DIGITS));
         let _ = writeln!(out, "    dp/dλ  {}", report::vector(dp, DIGITS));
+    }
+    for (kind, values) in &v.curvature {
+        match kind {
+            KernelKind::Ricci => {
+                let _ = writeln!(out, "  Ricci tensor R_ab");
+                matrix(&mut out, values, n);
+            }
+            KernelKind::RicciScalar => {
+                let r = values.first().copied().unwrap_or(f64::NAN);
+                let _ = writeln!(out, "  Ricci scalar R  {}", report::number(r, DIGITS));
+            }
+            KernelKind::Kretschmann => {
+                let k = values.first().copied().unwrap_or(f64::NAN);
+                let _ = writeln!(
+                    out,
+                    "  Kretschmann R_abcd R^abcd  {}",
+                    report::number(k, DIGITS)
+                );
+            }
+            _ => {}
+        }
     }
     out
 }

@@ -9,17 +9,14 @@ use crate::{json, report, source};
 
 /// Runs `stats`.
 pub fn run(args: &StatsArgs) -> Result<String, CliError> {
-    let loaded = source::load(&args.source.file, args.source.metric.as_deref())?;
+    let loaded = source::load_source(&args.source)?;
     let ks = &loaded.kernels;
     if args.format.json {
         let object: Map<String, Value> = KernelKind::ALL
             .iter()
-            .map(|&k| {
-                (
-                    k.name().to_string(),
-                    json::op_counts(&ks.program(k).op_counts()),
-                )
-            })
+            .chain(KernelKind::CURVATURE.iter())
+            .filter_map(|&k| ks.try_program(k).map(|p| (k, p)))
+            .map(|(k, p)| (k.name().to_string(), json::op_counts(&p.op_counts())))
             .collect();
         return Ok(json::to_text(&Value::Object(object)));
     }

@@ -239,7 +239,7 @@ pub fn parse_stops(
 
 /// Runs `trace`.
 pub fn run(args: &TraceArgs) -> Result<String, CliError> {
-    let loaded = source::load(&args.source.file, args.source.metric.as_deref())?;
+    let loaded = source::load_source(&args.source)?;
     let ks = &loaded.kernels;
     let params = source::bind_params(ks, &args.params)?;
     let x = source::parse_vector("--x", &args.x, &ks.coords)?;

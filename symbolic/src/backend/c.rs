@@ -4,8 +4,9 @@
 //! `kerr_newman_christoffel(params, x, gamma)`, `kerr_newman_accel(params, x, u, accel)`,
 //! `kerr_newman_hamilton(params, x, p, dx, dp)` and the other kernels in the same style:
 //! `const double *` inputs, `double *` outputs written row-major, parameters read from
-//! `params` in declared order. The norm returns its value. CUDA and OpenCL reuse these
-//! functions' shape through [`pointer_function`].
+//! `params` in declared order. Scalar kernels (the norm; with curvature, the Ricci and
+//! Kretschmann scalars) return their value. CUDA and OpenCL reuse these
+//! functions' shape.
 //!
 //! ```
 //! use geokern_symbolic::{backend::c, model, parse};
@@ -15,12 +16,12 @@
 //! assert!(header.contains("static inline void sphere_christoffel(const double *params, const double *x, double *gamma)"));
 //! ```
 
-use super::cfamily::{self, c_func, double_literal, value_name, Dialect, KernelIo};
+use super::cfamily::{self, c_func, double_literal, value_name, Dialect, KernelIo, SinCos};
 use crate::kernels::KernelSet;
 use crate::program::KernelKind;
 
 /// The spelling of double-precision C: `const double v3 = v1 * v2;`.
-pub(crate) fn c_dialect(sincos: Option<fn(&str, &str, &str) -> Vec<String>>) -> Dialect {
+pub(crate) fn c_dialect(sincos: Option<SinCos>) -> Dialect {
     Dialect {
         define: |name, rhs| format!("const double {name} = {rhs};"),
         input: |array, index| format!("{}[{index}]", array.name()),
@@ -55,8 +56,10 @@ pub(crate) fn pointer_function(
         .iter()
         .map(|(a, _)| format!("const double *{}", a.name()))
         .collect();
-    args.extend(io.outputs.iter().map(|o| format!("double *{}", o.name)));
-    let ret = if io.returns_scalar() { "double" } else { "void" };
+    if !io.scalar {
+        args.extend(io.outputs.iter().map(|o| format!("double *{}", o.name)));
+    }
+    let ret = if io.scalar { "double" } else { "void" };
     let prototype = format!("{ret} {prefix}_{}({})", kind.name(), args.join(", "));
 
     let body = cfamily::statements(p, style.dialect);
@@ -75,7 +78,7 @@ pub(crate) fn pointer_function(
         text.push_str(line);
         text.push('\n');
     }
-    if io.returns_scalar() {
+    if io.scalar {
         text.push_str(&format!("    return {};\n", value_name(p.outputs[0])));
     } else {
         for (o, j, v) in io.assignments(p) {
@@ -93,7 +96,7 @@ pub(crate) fn array_lengths(io: &KernelIo) -> String {
         .iter()
         .map(|(a, len)| format!("{}[{len}]", a.name()))
         .collect();
-    let outs: Vec<String> = if io.returns_scalar() {
+    let outs: Vec<String> = if io.scalar {
         vec!["returns the value".to_string()]
     } else {
         io.outputs
@@ -121,7 +124,7 @@ pub fn emit(ks: &KernelSet) -> String {
     };
     let mut signatures = Vec::new();
     let mut functions = Vec::new();
-    for kind in KernelKind::ALL {
+    for kind in cfamily::kernel_kinds(ks) {
         let (prototype, text) = pointer_function(ks, kind, &style);
         signatures.push(format!(
             "static inline {prototype};  {}",

@@ -21,8 +21,8 @@ pub fn snake_case(name: &str) -> String {
             let prev = i.checked_sub(1).map(|j| chars[j]);
             let next = chars.get(i + 1).copied();
             let after_lower = prev.is_some_and(|p| p.is_ascii_lowercase() || p.is_ascii_digit());
-            let ends_acronym =
-                prev.is_some_and(|p| p.is_ascii_uppercase()) && next.is_some_and(|n| n.is_ascii_lowercase());
+            let ends_acronym = prev.is_some_and(|p| p.is_ascii_uppercase())
+                && next.is_some_and(|n| n.is_ascii_lowercase());
             if after_lower || ends_acronym {
                 out.push('_');
             }
@@ -50,51 +50,59 @@ pub struct KernelIo {
     pub kind: KernelKind,
     /// Input arrays in signature order, with their lengths.
     pub inputs: Vec<(InputArray, usize)>,
-    /// Output arrays in signature order; empty for [`KernelKind::Norm`], which returns its
-    /// one value.
+    /// Output arrays in signature order. A scalar kernel has one of length 1, named after the
+    /// kernel (`norm`), which backends return instead of writing where they can.
     pub outputs: Vec<OutputArray>,
+    /// Whether the kernel computes one value (the norm, the Ricci scalar, …).
+    pub scalar: bool,
 }
 
 impl KernelIo {
     /// The inputs and outputs of `kind` for the metric `ks`.
     pub fn new(ks: &KernelSet, kind: KernelKind) -> Self {
         let n = ks.dim();
+        let p = ks.program(kind);
         let inputs = kind
             .inputs()
             .iter()
-            .map(|&a| (a, if a == InputArray::Params { ks.params.len() } else { n }))
+            .map(|&a| {
+                (
+                    a,
+                    if a == InputArray::Params {
+                        ks.params.len()
+                    } else {
+                        n
+                    },
+                )
+            })
             .collect();
-        let out = |name, len| OutputArray { name, len };
+        let scalar = p.shape.is_empty();
+        let out = |name| OutputArray {
+            name,
+            len: p.outputs.len(),
+        };
         let outputs = match kind {
-            KernelKind::Metric => vec![out("g", n * n)],
-            KernelKind::InverseMetric => vec![out("ginv", n * n)],
-            KernelKind::Christoffel => vec![out("gamma", n * n * n)],
-            KernelKind::Accel => vec![out("accel", n)],
-            KernelKind::Hamilton => vec![out("dx", n), out("dp", n)],
-            KernelKind::Transport => vec![out("dv", n)],
-            KernelKind::Norm => Vec::new(),
-            KernelKind::Conserved => vec![out("conserved", ks.cyclic.len())],
-            KernelKind::Invariants => vec![out("invariants", ks.invariant_names.len())],
+            KernelKind::Hamilton => vec![
+                OutputArray { name: "dx", len: n },
+                OutputArray { name: "dp", len: n },
+            ],
+            KernelKind::Metric => vec![out("g")],
+            KernelKind::InverseMetric => vec![out("ginv")],
+            KernelKind::Christoffel => vec![out("gamma")],
+            KernelKind::Transport => vec![out("dv")],
+            other => vec![out(other.name())],
         };
         KernelIo {
             kind,
             inputs,
             outputs,
+            scalar,
         }
     }
 
-    /// Whether the kernel returns one value instead of writing arrays.
-    pub fn returns_scalar(&self) -> bool {
-        self.outputs.is_empty()
-    }
-
-    /// Total number of values written: the program's output count.
+    /// Total number of values computed: the program's output count.
     pub fn output_len(&self) -> usize {
-        if self.returns_scalar() {
-            1
-        } else {
-            self.outputs.iter().map(|o| o.len).sum()
-        }
+        self.outputs.iter().map(|o| o.len).sum()
     }
 
     /// The program's outputs, split over the output arrays: `(array, index in array, value)`.
@@ -111,6 +119,23 @@ impl KernelIo {
     }
 }
 
+/// The kernels a metric has, in the order backends emit them: every [`KernelKind::ALL`]
+/// kernel, then the curvature kernels when the declaration asked for them.
+pub fn kernel_kinds(ks: &KernelSet) -> Vec<KernelKind> {
+    let mut kinds = KernelKind::ALL.to_vec();
+    kinds.extend(
+        KernelKind::CURVATURE
+            .iter()
+            .copied()
+            .filter(|&k| ks.try_program(k).is_some()),
+    );
+    kinds
+}
+
+/// Statements computing a sine and a cosine of one argument together, given
+/// `(sine name, cosine name, argument)`.
+pub type SinCos = fn(&str, &str, &str) -> Vec<String>;
+
 /// How one language spells values, inputs, constants and calls.
 pub struct Dialect {
     /// A definition of value `name` as `rhs` (`const double v3 = rhs;`).
@@ -125,9 +150,8 @@ pub struct Dialect {
     pub sqrt: &'static str,
     /// The real power's name (`pow`, `np.power`).
     pub pow: &'static str,
-    /// Statements computing a sine and a cosine of one argument together, given
-    /// `(sine name, cosine name, argument)`; `None` where the language has no such call.
-    pub sincos: Option<fn(&str, &str, &str) -> Vec<String>>,
+    /// The joint sine and cosine; `None` where the language has no such call.
+    pub sincos: Option<SinCos>,
 }
 
 /// The C names of the elementary functions, shared by C, CUDA, OpenCL, WGSL and GLSL.
@@ -264,7 +288,12 @@ pub fn statements(p: &KernelProgram, d: &Dialect) -> Statements {
 /// The description every emitted unit starts with, one line per entry, without comment
 /// markers: the metric, its coordinates and parameters in order, `notes` about the target,
 /// every function signature and the op counts of every kernel.
-pub fn header(ks: &KernelSet, language: &str, notes: &[String], signatures: &[String]) -> Vec<String> {
+pub fn header(
+    ks: &KernelSet,
+    language: &str,
+    notes: &[String],
+    signatures: &[String],
+) -> Vec<String> {
     let mut lines = vec![format!(
         "{}: geodesic kernels in {language}, generated by geokern from a metric declaration.",
         ks.name
@@ -287,7 +316,10 @@ pub fn header(ks: &KernelSet, language: &str, notes: &[String], signatures: &[St
         ks.dim(),
         ks.coords.join(", ")
     ));
-    lines.push(format!("Parameters, read from `params` in this order: {}.", list(&ks.params)));
+    lines.push(format!(
+        "Parameters, read from `params` in this order: {}.",
+        list(&ks.params)
+    ));
     lines.push(format!(
         "Conserved momenta, in output order of `conserved`: {}.",
         list(&ks.conserved_names())
@@ -297,13 +329,21 @@ pub fn header(ks: &KernelSet, language: &str, notes: &[String], signatures: &[St
         list(&ks.invariant_names)
     ));
     lines.push(
-        "Arrays are row-major: g and ginv are [a][b], gamma is [a][b][c] = Gamma^a_bc; \
-         accel = -Gamma^a_bc u^b u^c; dv = -Gamma^a_bc u^b v^c; (dx, dp) are Hamilton's \
-         equations for H = g^ab p_a p_b / 2; norm = g_ab u^a u^b."
-            .to_string(),
+        "Arrays are row-major: g and ginv are [a][b]; gamma is [a][b][c] = Gamma^a_bc.".into(),
     );
+    lines
+        .push("accel = -Gamma^a_bc u^b u^c; dv = -Gamma^a_bc u^b v^c; norm = g_ab u^a u^b.".into());
+    lines.push("(dx, dp) are Hamilton's equations for H = g^ab p_a p_b / 2.".into());
+    if ks.has_curvature() {
+        lines.push(
+            "Curvature: riemann is [a][b][c][d] = R^a_bcd; ricci and einstein are [a][b]; \
+             deviation = -R^a_bcd u^b v^c u^d for a separation v."
+                .to_string(),
+        );
+    }
     lines.push(
-        "Every kernel function is straight-line code: no branch, no loop, no allocation.".to_string(),
+        "Every kernel function is straight-line code: no branch, no loop, no allocation."
+            .to_string(),
     );
     for note in notes {
         lines.push(note.clone());
@@ -317,26 +357,57 @@ pub fn header(ks: &KernelSet, language: &str, notes: &[String], signatures: &[St
          argument count as one call):"
             .to_string(),
     );
-    for kind in KernelKind::ALL {
-        lines.push(format!("  {:<15} {}", kind.name(), ks.program(kind).op_counts()));
+    for kind in kernel_kinds(ks) {
+        lines.push(format!(
+            "  {:<18} {}",
+            kind.name(),
+            ks.program(kind).op_counts()
+        ));
     }
     lines
 }
 
-/// `lines` as a comment block with `marker` (`//`, `#`) before each line.
+/// `lines` as a comment block with `marker` (`//`, `#`) before each line. Prose is wrapped
+/// at 96 columns; indented lines (signatures, tables) are kept whole.
 pub fn comment(lines: &[String], marker: &str) -> String {
     let mut out = String::new();
     for l in lines {
         if l.is_empty() {
             out.push_str(marker);
+            out.push('\n');
+            continue;
+        }
+        let pieces = if l.starts_with(' ') {
+            vec![l.clone()]
         } else {
+            wrap(l, 96 - marker.len() - 1)
+        };
+        for piece in pieces {
             out.push_str(marker);
             out.push(' ');
-            out.push_str(l);
+            out.push_str(&piece);
+            out.push('\n');
         }
-        out.push('\n');
     }
     out
+}
+
+/// Splits `text` at spaces into lines of at most `width` characters (a longer word stands
+/// alone).
+fn wrap(text: &str, width: usize) -> Vec<String> {
+    let mut lines = Vec::new();
+    let mut line = String::new();
+    for word in text.split(' ') {
+        if !line.is_empty() && line.chars().count() + 1 + word.chars().count() > width {
+            lines.push(std::mem::take(&mut line));
+        }
+        if !line.is_empty() {
+            line.push(' ');
+        }
+        line.push_str(word);
+    }
+    lines.push(line);
+    lines
 }
 
 #[cfg(test)]
@@ -360,7 +431,14 @@ mod tests {
 
     #[test]
     fn literals_read_back_exactly() {
-        for x in [2.0, 0.1, -0.5, 1e-5, 1.2345678901234568e20, std::f64::consts::PI] {
+        for x in [
+            2.0,
+            0.1,
+            -0.5,
+            1e-5,
+            1.2345678901234568e20,
+            std::f64::consts::PI,
+        ] {
             let lit = double_literal(x, "INFINITY");
             assert_eq!(lit.parse::<f64>(), Ok(x), "{lit}");
             let lit = float_literal(x);
@@ -369,5 +447,19 @@ mod tests {
         assert_eq!(double_literal(2.0, "INFINITY"), "2.0");
         assert_eq!(double_literal(f64::NEG_INFINITY, "INFINITY"), "-INFINITY");
         assert_eq!(float_literal(1e300), "1e300");
+    }
+
+    #[test]
+    fn comments_wrap_prose_and_keep_signatures() {
+        let long = "word ".repeat(40).trim_end().to_string();
+        let sig = format!("  {}", "x".repeat(120));
+        let text = comment(&[long.clone(), String::new(), sig.clone()], "//");
+        let lines: Vec<&str> = text.lines().collect();
+        assert!(lines.iter().all(|l| l.len() <= 96 || l.ends_with('x')));
+        assert_eq!(lines.len(), 5);
+        assert_eq!(lines[3], "//");
+        assert_eq!(lines[4], format!("// {sig}"));
+        let words: Vec<&str> = lines[..3].iter().map(|l| &l[3..]).collect();
+        assert_eq!(words.join(" "), long);
     }
 }

@@ -47,19 +47,11 @@ pub(crate) fn batch_args(io: &KernelIo) -> Option<Vec<BatchArg>> {
             output: false,
         })
         .collect();
-    if io.returns_scalar() {
-        args.push(BatchArg {
-            name: "norm",
-            stride: 1,
-            output: true,
-        });
-    } else {
-        args.extend(io.outputs.iter().map(|o| BatchArg {
-            name: o.name,
-            stride: o.len,
-            output: true,
-        }));
-    }
+    args.extend(io.outputs.iter().map(|o| BatchArg {
+        name: o.name,
+        stride: o.len,
+        output: true,
+    }));
     Some(args)
 }
 
@@ -85,9 +77,9 @@ fn batch_function(ks: &KernelSet, kind: KernelKind) -> Option<(String, String)> 
         0 => a.name.to_string(),
         s => format!("{} + {s} * i", a.name),
     };
-    let call = if io.returns_scalar() {
+    let call = if io.scalar {
         let ins: Vec<String> = args.iter().filter(|a| !a.output).map(at).collect();
-        format!("norm[i] = {name}({});", ins.join(", "))
+        format!("{}[i] = {name}({});", kind.name(), ins.join(", "))
     } else {
         let all: Vec<String> = args.iter().map(at).collect();
         format!("{name}({});", all.join(", "))
@@ -113,7 +105,8 @@ pub fn emit(ks: &KernelSet) -> String {
     };
     let mut signatures = Vec::new();
     let mut functions = Vec::new();
-    for kind in KernelKind::ALL {
+    let kinds = cfamily::kernel_kinds(ks);
+    for &kind in &kinds {
         let (prototype, text) = pointer_function(ks, kind, &style);
         signatures.push(format!(
             "__device__ inline {prototype};  {}",
@@ -121,7 +114,7 @@ pub fn emit(ks: &KernelSet) -> String {
         ));
         functions.push(text);
     }
-    for kind in KernelKind::ALL {
+    for &kind in &kinds {
         if let Some((prototype, text)) = batch_function(ks, kind) {
             signatures.push(format!("{prototype};"));
             functions.push(text);

@@ -39,11 +39,8 @@ fn batch_function(ks: &KernelSet, kind: KernelKind) -> Option<(String, String)> 
     let prototype = format!("__kernel void {name}_batch({})", params.join(", "));
 
     let mut body = Vec::new();
-    // The norm is returned, not written through a pointer, so it needs no private copy.
-    let copied: Vec<_> = args
-        .iter()
-        .filter(|a| !(io.returns_scalar() && a.output))
-        .collect();
+    // A scalar is returned, not written through a pointer, so it needs no private copy.
+    let copied: Vec<_> = args.iter().filter(|a| !(io.scalar && a.output)).collect();
     for a in &copied {
         let len = if a.stride == 0 {
             ks.params.len()
@@ -63,8 +60,12 @@ fn batch_function(ks: &KernelSet, kind: KernelKind) -> Option<(String, String)> 
         }
     }
     let call_args: Vec<String> = copied.iter().map(|a| format!("priv_{}", a.name)).collect();
-    if io.returns_scalar() {
-        body.push(format!("norm[i] = {name}({});", call_args.join(", ")));
+    if io.scalar {
+        body.push(format!(
+            "{}[i] = {name}({});",
+            kind.name(),
+            call_args.join(", ")
+        ));
     } else {
         body.push(format!("{name}({});", call_args.join(", ")));
         for a in copied.iter().filter(|a| a.output) {
@@ -77,9 +78,8 @@ fn batch_function(ks: &KernelSet, kind: KernelKind) -> Option<(String, String)> 
             }
         }
     }
-    let mut text = format!(
-        "{prototype}\n{{\n    const long i = (long)get_global_id(0);\n    if (i < n) {{\n"
-    );
+    let mut text =
+        format!("{prototype}\n{{\n    const long i = (long)get_global_id(0);\n    if (i < n) {{\n");
     for line in body {
         text.push_str("        ");
         text.push_str(&line);
@@ -103,7 +103,8 @@ pub fn emit(ks: &KernelSet) -> String {
     };
     let mut signatures = Vec::new();
     let mut functions = Vec::new();
-    for kind in KernelKind::ALL {
+    let kinds = cfamily::kernel_kinds(ks);
+    for &kind in &kinds {
         let (prototype, text) = pointer_function(ks, kind, &style);
         signatures.push(format!(
             "static inline {prototype};  {}",
@@ -111,7 +112,7 @@ pub fn emit(ks: &KernelSet) -> String {
         ));
         functions.push(text);
     }
-    for kind in KernelKind::ALL {
+    for &kind in &kinds {
         if let Some((prototype, text)) = batch_function(ks, kind) {
             signatures.push(format!("{prototype};"));
             functions.push(text);

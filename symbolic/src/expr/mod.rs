@@ -21,6 +21,9 @@
 mod build;
 mod calculus;
 mod display;
+mod zero;
+
+pub use zero::proves_zero;
 
 use std::collections::HashMap;
 
@@ -372,6 +375,37 @@ impl Store {
             };
         }
         v
+    }
+
+    /// For every node up to the largest root: its value and a magnitude that bounds the sizes
+    /// of what was added on the way to it (sums of absolute values of terms, products of
+    /// magnitudes), so that a value cancelling to rounding noise can be told from a small one:
+    /// f64 evaluation errs by a few ulps of the magnitude, not of the value.
+    pub fn eval_with_magnitude(
+        &self,
+        roots: &[ExprId],
+        symbol_value: &dyn Fn(&Symbol) -> f64,
+    ) -> (Vec<f64>, Vec<f64>) {
+        let v = self.eval_all(roots, symbol_value);
+        let mut m = vec![0.0; v.len()];
+        for i in 0..v.len() {
+            m[i] = match &self.nodes[i] {
+                Node::Add(c, terms) => terms.iter().fold(q_to_f64(c).abs(), |acc, (t, k)| {
+                    acc + q_to_f64(k).abs() * m[t.index()]
+                }),
+                Node::Mul(factors) => factors.iter().fold(1.0, |acc, (b, e)| {
+                    // Denominators scale by their value; numerators by their magnitude.
+                    let base = if num_traits::Signed::is_negative(e) {
+                        v[b.index()].abs()
+                    } else {
+                        m[b.index()]
+                    };
+                    acc * pow_q_f64(base, e)
+                }),
+                _ => v[i].abs(),
+            };
+        }
+        (v, m)
     }
 
     /// Evaluates one expression in f64.

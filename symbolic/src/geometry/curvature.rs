@@ -5,11 +5,11 @@
 //! of Misner, Thorne & Wheeler, eq. 11.12; from memory). Only c < d is derived; the
 //! antisymmetry in the last pair fills in the rest, and every derivative of Γ is taken once.
 
-use num_traits::{One, Zero};
+use num_traits::One;
 
 use super::sample::SamplePoints;
 use super::{Derivation, MetricModel};
-use crate::expr::{ExprId, Node, Store, SymbolKind, Q};
+use crate::expr::{ExprId, Store, SymbolKind, Q};
 
 /// Curvature expressions of one metric.
 #[derive(Clone, Debug)]
@@ -120,30 +120,43 @@ pub fn derive_curvature(model: &mut MetricModel, d: &Derivation) -> Curvature {
             }
         }
     }
+    // Both factors are antisymmetric in (a, b) and in (c, d): K = 4 Σ_{a<b, c<d}.
     let mut kp: Vec<(ExprId, ExprId)> = Vec::new();
     for a in 0..n {
-        for b in 0..n {
+        for b in a + 1..n {
             for c in 0..n {
-                for dd in 0..n {
+                for dd in c + 1..n {
                     kp.push((lowered[a][b][c][dd], raised[a][b][c][dd]));
                 }
             }
         }
     }
-    let kretschmann = s.sum_of_products(&kp);
+    let quarter = s.sum_of_products(&kp);
+    let kretschmann = s.scale(quarter, Q::from_integer(4.into()));
 
+    // −R^a_bcd u^b ξ^c u^d = −Σ_b Σ_{c<d} R^a_bcd u^b (ξ^c u^d − ξ^d u^c), by the antisymmetry
+    // in (c, d); the bivector ξ∧u is shared by every component.
+    let mut wedge = vec![vec![zero; n]; n];
+    for c in 0..n {
+        for dd in c + 1..n {
+            let p = s.mul(&[xi[c], u[dd]]);
+            let q = s.mul(&[xi[dd], u[c]]);
+            wedge[c][dd] = s.sub(p, q);
+        }
+    }
     let deviation = (0..n)
         .map(|a| {
             let mut p: Vec<(ExprId, Q)> = Vec::new();
             for b in 0..n {
+                let mut inner: Vec<(ExprId, ExprId)> = Vec::new();
                 for c in 0..n {
-                    for dd in 0..n {
-                        if s.is_zero(riemann[a][b][c][dd]) {
-                            continue;
-                        }
-                        let t = s.mul(&[riemann[a][b][c][dd], u[b], xi[c], u[dd]]);
-                        p.push((t, -Q::one()));
+                    for dd in c + 1..n {
+                        inner.push((riemann[a][b][c][dd], wedge[c][dd]));
                     }
+                }
+                let t = s.sum_of_products(&inner);
+                if !s.is_zero(t) {
+                    p.push((s.mul(&[u[b], t]), -Q::one()));
                 }
             }
             s.lincomb(&p)
@@ -181,31 +194,30 @@ impl std::fmt::Display for ZeroStatus {
     }
 }
 
-/// Classifies `e`: proved zero by its canonical form, zero at every sample point (to 1e-9 of
-/// the size of its largest term, since cancellation leaves rounding of that size), or not.
-pub fn zero_status(s: &Store, e: ExprId) -> ZeroStatus {
+/// Classifies `e`: proved zero by its canonical form (or, with `prove`, as one rational
+/// function), zero at every sample point (to 1e-9 of the magnitude of what cancelled there,
+/// since cancellation leaves rounding of that size), or nonzero. Sampling runs first, so the
+/// costly proof is only tried on what is zero at every sample point.
+pub fn zero_status(s: &Store, e: ExprId, prove: bool) -> ZeroStatus {
     if s.is_zero(e) {
         return ZeroStatus::Proved;
-    }
-    let mut roots = vec![e];
-    if let Node::Add(_, terms) = s.node(e) {
-        roots.extend(terms.iter().map(|t| t.0));
     }
     let pts = SamplePoints::standard();
     let mut seen = 0;
     for k in 0..pts.len() {
-        let v = pts.eval(s, &roots, k);
-        if v.iter().any(|x| !x.is_finite()) {
+        let (v, m) = pts.eval_with_magnitude(s, e, k);
+        if !v.is_finite() || !m.is_finite() {
             continue;
         }
-        let scale = v.iter().fold(0.0_f64, |m, x| m.max(x.abs()));
-        if v[0].abs() > 1e-9 * scale.max(f64::MIN_POSITIVE) && !(v[0].is_zero()) {
+        if v.abs() > 1e-9 * m {
             return ZeroStatus::Nonzero;
         }
         seen += 1;
     }
     if seen == 0 {
         ZeroStatus::Nonzero
+    } else if prove && crate::expr::proves_zero(s, e) {
+        ZeroStatus::Proved
     } else {
         ZeroStatus::Sampled(seen)
     }

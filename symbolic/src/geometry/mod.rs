@@ -39,6 +39,9 @@ pub struct MetricModel {
     pub invariants: Vec<(String, ExprId)>,
     /// Whether curvature kernels were asked for.
     pub curvature: bool,
+    /// Whether to attempt exact proofs that Ricci components vanish (slower than sampling;
+    /// the command-line `check --curvature` asks for it, the macro does not).
+    pub prove_zeros: bool,
 }
 
 impl MetricModel {

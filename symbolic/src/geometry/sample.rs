@@ -46,6 +46,13 @@ impl SamplePoints {
         roots.iter().map(|r| vals[r.index()]).collect()
     }
 
+    /// Value and rounding magnitude of `e` at point `k` (see [`Store::eval_with_magnitude`]).
+    pub fn eval_with_magnitude(&self, s: &Store, e: ExprId, k: usize) -> (f64, f64) {
+        let index_of = |sym: &Symbol| s.symbols().iter().position(|t| t == sym).unwrap_or(0);
+        let (v, m) = s.eval_with_magnitude(&[e], &|sym| self.value(k, index_of(sym)));
+        (v[e.index()], m[e.index()])
+    }
+
     /// Whether `e` is zero (to rounding) at every sample point where it is finite, and finite
     /// at one at least.
     pub fn all_zero(&self, s: &Store, e: ExprId) -> bool {

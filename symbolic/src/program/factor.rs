@@ -30,6 +30,9 @@ pub enum Term {
     Pair(usize, usize, Q),
 }
 
+/// Longest sum whose terms take part in pairing.
+const MAX_PAIRED_SUM: usize = 8;
+
 /// The factored form of every product and sum a kernel reaches.
 #[derive(Debug, Default)]
 pub struct Factoring {
@@ -149,6 +152,11 @@ impl Factoring {
         let mut pc = PairCounts::default();
         let mut lists_of: HashMap<usize, Vec<usize>> = HashMap::new();
         for (li, (_, l)) in lists.iter().enumerate() {
+            // Pairs grow as the square of a sum's length; long sums (curvature kernels) are
+            // left as they are, where pairing costs far more time than it saves operations.
+            if l.len() > MAX_PAIRED_SUM {
+                continue;
+            }
             for (x, (a, ka)) in l.iter().enumerate() {
                 lists_of.entry(*a).or_default().push(li);
                 for (b, kb) in &l[x + 1..] {
