@@ -12,6 +12,23 @@ use geokern_symbolic::parse::parse_str;
 geokern::include_metric!("examples/metrics/kerr_bl.gk");
 geokern::include_metric!("examples/metrics/kerr_schild.gk");
 
+geokern::metric! {
+    /// Kerr with the curvature kernels, for the Kretschmann figures.
+    pub struct KerrCurved {
+        coords: [t, r, theta, phi],
+        params: [m, a],
+        options: [curvature],
+        let sigma = r.powi(2) + (a * theta.cos()).powi(2);
+        let delta = r.powi(2) - 2.0 * m * r + a.powi(2);
+        g[t, t] = -(1.0 - 2.0 * m * r / sigma);
+        g[t, phi] = -2.0 * m * a * r * theta.sin().powi(2) / sigma;
+        g[r, r] = sigma / delta;
+        g[theta, theta] = sigma;
+        g[phi, phi] = (r.powi(2) + a.powi(2)
+            + 2.0 * m * r * (a * theta.sin()).powi(2) / sigma) * theta.sin().powi(2);
+    }
+}
+
 fn derive(c: &mut Criterion) {
     for (name, text) in [
         ("kerr_bl", include_str!("../examples/metrics/kerr_bl.gk")),
@@ -44,6 +61,14 @@ fn kernels(c: &mut Criterion) {
     });
     c.bench_function("christoffel/kerr_schild", |b| {
         b.iter(|| ks.christoffel(black_box(&xc)))
+    });
+    let curved: KerrCurved = KerrCurved::new(1.0, 0.9);
+    println!(
+        "kretschmann/kerr_bl ops: {}",
+        KerrCurved::<f64>::KRETSCHMANN_OPS.total()
+    );
+    c.bench_function("kretschmann/kerr_bl", |b| {
+        b.iter(|| curved.kretschmann(black_box(&x)))
     });
 }
 
