@@ -169,6 +169,35 @@ impl Store {
         self.add(&terms)
     }
 
+    /// `a·b`, multiplied out over the terms of `b` when `b` is a sum, `a` is not, and like
+    /// powers merge in every term on average (`r⁻²·(2r·u + r²·v)` becomes `2r⁻¹·u + v`);
+    /// otherwise the plain product, which keeps the sum shared.
+    pub fn mul_distributed(&mut self, a: ExprId, b: ExprId) -> ExprId {
+        let (Node::Add(c, ts), false) = (self.node(b).clone(), matches!(self.node(a), Node::Add(..)))
+        else {
+            return self.mul(&[a, b]);
+        };
+        let width = |s: &Store, e: ExprId| match s.node(e) {
+            Node::Mul(fs) => fs.len(),
+            Node::Num(_) => 0,
+            _ => 1,
+        };
+        let mut parts: Vec<(ExprId, Q)> = Vec::with_capacity(ts.len() + 1);
+        let mut merged = 0;
+        if !c.is_zero() {
+            parts.push((a, c));
+        }
+        for (t, k) in ts.iter() {
+            let p = self.mul(&[a, *t]);
+            merged += (width(self, a) + width(self, *t)).saturating_sub(width(self, p));
+            parts.push((p, k.clone()));
+        }
+        if merged < ts.len() {
+            return self.mul(&[a, b]);
+        }
+        self.lincomb(&parts)
+    }
+
     /// `a / b`; a division by an exact zero is recorded (see
     /// [`take_division_by_zero`](Store::take_division_by_zero)) and yields zero.
     pub fn div(&mut self, a: ExprId, b: ExprId) -> ExprId {

@@ -250,7 +250,18 @@ fn lowered_accel(s: &mut Store, dg: &[Vec<Vec<ExprId>>], u: &[ExprId]) -> Vec<Ex
 /// one, so the sign costs nothing, whereas negating the raised sum costs one op a component.
 fn raise_negated(s: &mut Store, inverse: &[Vec<ExprId>], w: &[ExprId]) -> Vec<ExprId> {
     let minus_w: Vec<ExprId> = w.iter().map(|&e| s.neg(e)).collect();
-    contract(s, inverse, &minus_w)
+    inverse
+        .iter()
+        .map(|row| {
+            let mut parts = Vec::new();
+            for (&m, &x) in row.iter().zip(&minus_w) {
+                if !s.is_zero(m) && !s.is_zero(x) {
+                    parts.push((s.mul_distributed(m, x), Q::one()));
+                }
+            }
+            s.lincomb(&parts)
+        })
+        .collect()
 }
 
 /// (M·v)_a = Σ_b M_ab v_b, skipping structural zeros.

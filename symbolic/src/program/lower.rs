@@ -4,12 +4,20 @@
 //! subexpression shared anywhere among a kernel's outputs is computed once. On the way the
 //! canonical sums and products are turned into cheap code: integer powers by repeated
 //! multiplication (x·x, (x·x)·(x·x)), half-integer powers through one square root, a product's
-//! negative powers taken as powers of one reciprocal per base, a sum's terms grouped by coefficient so
-//! that a shared factor is multiplied once, and signs absorbed into subtractions.
+//! negative powers taken as powers of one reciprocal per base, and a sum's terms grouped by
+//! coefficient so that a shared factor is multiplied once.
+//!
+//! Constant factors float upwards: every value is lowered as `k·v`, an exact rational `k`
+//! the parent still owes and an SSA value `v`. A product multiplies its factors' `k`s for
+//! free, a reciprocal takes `1/k`, and a sum divides out its most common coefficient, so that a
+//! constant is multiplied in once, where it finally meets a function, a square root or an
+//! output, instead of at every level (`2·(a·(2·b) − 4·c)` costs what `4·(a·b − c)` costs).
+//! Signs are the special case `k = −1`: absorbed into subtractions, and at an output into the
+//! single-use subtraction or constant-scaled product that defines it. A last sweep drops
+//! values nothing reads.
 
 use std::collections::{BTreeMap, HashMap};
 
-use num_integer::Integer;
 use num_traits::{One, Signed, ToPrimitive, Zero};
 
 use super::factor::{Factor, Factoring, Term};
@@ -38,27 +46,86 @@ pub fn lower(
         sum_memo: HashMap::new(),
     };
     let outs: Vec<Val> = outputs.iter().map(|&e| l.lower(e)).collect();
+    let (instrs, outputs) = eliminate_dead(l.instrs, outs);
     KernelProgram {
         kind,
         dim,
-        instrs: l.instrs,
-        outputs: outs,
+        instrs,
+        outputs,
         shape,
     }
 }
 
-/// A sign-normalised sum: its constant and its (term, coefficient) list.
+/// Keeps only the instructions the outputs read, renumbered in their original order.
+fn eliminate_dead(instrs: Vec<Instr>, outputs: Vec<Val>) -> (Vec<Instr>, Vec<Val>) {
+    let mut live = vec![false; instrs.len()];
+    for &o in &outputs {
+        live[o as usize] = true;
+    }
+    for i in (0..instrs.len()).rev() {
+        if live[i] {
+            for operand in operands(&instrs[i]) {
+                live[operand as usize] = true;
+            }
+        }
+    }
+    let mut new_index = vec![0 as Val; instrs.len()];
+    let mut kept = Vec::with_capacity(instrs.len());
+    for (i, ins) in instrs.into_iter().enumerate() {
+        if live[i] {
+            new_index[i] = kept.len() as Val;
+            kept.push(renumber(ins, &new_index));
+        }
+    }
+    let outputs = outputs.iter().map(|&o| new_index[o as usize]).collect();
+    (kept, outputs)
+}
+
+/// The values an instruction reads.
+fn operands(ins: &Instr) -> Vec<Val> {
+    match *ins {
+        Instr::Input(..) | Instr::Const(_) | Instr::Named(_) => Vec::new(),
+        Instr::Neg(a) | Instr::Sqrt(a) | Instr::Call(_, a) => vec![a],
+        Instr::Add(a, b)
+        | Instr::Sub(a, b)
+        | Instr::Mul(a, b)
+        | Instr::Div(a, b)
+        | Instr::Powf(a, b) => vec![a, b],
+    }
+}
+
+/// `ins` with its operands renamed by `map`.
+fn renumber(ins: Instr, map: &[Val]) -> Instr {
+    let m = |v: Val| map[v as usize];
+    match ins {
+        Instr::Add(a, b) => Instr::Add(m(a), m(b)),
+        Instr::Sub(a, b) => Instr::Sub(m(a), m(b)),
+        Instr::Mul(a, b) => Instr::Mul(m(a), m(b)),
+        Instr::Div(a, b) => Instr::Div(m(a), m(b)),
+        Instr::Powf(a, b) => Instr::Powf(m(a), m(b)),
+        Instr::Neg(a) => Instr::Neg(m(a)),
+        Instr::Sqrt(a) => Instr::Sqrt(m(a)),
+        Instr::Call(f, a) => Instr::Call(f, m(a)),
+        other => other,
+    }
+}
+
+/// A sum normalised by its first term's coefficient: its constant and its (term,
+/// coefficient) list.
 type SumKey = (Q, Vec<(usize, Q)>);
+
+/// A lowered value that still owes a constant factor: it stands for `k·v`.
+type Scaled = (Val, Q);
 
 struct Lowerer<'a> {
     store: &'a Store,
     instrs: Vec<Instr>,
     numbering: HashMap<Instr, Val>,
-    memo: HashMap<ExprId, (Val, bool)>,
+    memo: HashMap<ExprId, Scaled>,
     factoring: Factoring,
-    factor_vals: HashMap<usize, (Val, bool)>,
-    term_vals: HashMap<usize, (Val, bool)>,
-    sum_memo: HashMap<SumKey, (Val, bool)>,
+    factor_vals: HashMap<usize, Scaled>,
+    term_vals: HashMap<usize, Scaled>,
+    sum_memo: HashMap<SumKey, Scaled>,
 }
 
 impl Lowerer<'_> {
@@ -81,28 +148,58 @@ impl Lowerer<'_> {
         self.emit(Instr::Const(q))
     }
 
-    /// The value of `e`, with any pending sign applied.
-    fn lower(&mut self, e: ExprId) -> Val {
-        let (v, negated) = self.lower_signed(e);
-        self.materialize(v, negated)
-    }
-
-    fn materialize(&mut self, v: Val, negated: bool) -> Val {
-        if negated {
-            self.emit(Instr::Neg(v))
-        } else {
-            v
+    fn constant_value(&self, v: Val) -> Option<&Q> {
+        match &self.instrs[v as usize] {
+            Instr::Const(c) => Some(c),
+            _ => None,
         }
     }
 
-    /// `(v, negated)` with `e = −v` when `negated`: a sign is carried to the parent, which
-    /// absorbs it in a subtraction or in the sign of a product, instead of costing a negation.
-    fn lower_signed(&mut self, e: ExprId) -> (Val, bool) {
-        if let Some(&v) = self.memo.get(&e) {
+    /// The value of `e` as one SSA value.
+    fn lower(&mut self, e: ExprId) -> Val {
+        let (v, k) = self.lower_scaled(e);
+        self.materialize(v, &k)
+    }
+
+    /// `k·v` as one SSA value: free when `k = 1` or `v` is a constant; for `k = −1` a
+    /// subtraction turned round or a constant folded where `v` allows (the old value is then
+    /// dead unless something else reads it); otherwise one multiplication, folded into a
+    /// product by a constant when `v` is one.
+    fn materialize(&mut self, v: Val, k: &Q) -> Val {
+        if k.is_one() {
             return v;
         }
+        if let Some(c) = self.constant_value(v) {
+            let c = c * k;
+            return self.constant(c);
+        }
+        match self.instrs[v as usize].clone() {
+            Instr::Mul(a, b) if self.constant_value(a).is_some() => {
+                let c = self.constant_value(a).cloned().unwrap_or_else(Q::one) * k;
+                let c = self.constant(c);
+                return self.emit(Instr::Mul(c, b));
+            }
+            Instr::Sub(a, b) if *k == -Q::one() => return self.emit(Instr::Sub(b, a)),
+            Instr::Neg(a) if *k == -Q::one() => return a,
+            _ => {}
+        }
+        if *k == -Q::one() {
+            self.emit(Instr::Neg(v))
+        } else {
+            let c = self.constant(k.clone());
+            self.emit(Instr::Mul(c, v))
+        }
+    }
+
+    /// `(v, k)` with `e = k·v`: the constant factor is left to the parent, which multiplies
+    /// it into its own for free or divides it out of a sum.
+    fn lower_scaled(&mut self, e: ExprId) -> Scaled {
+        if let Some(v) = self.memo.get(&e) {
+            return v.clone();
+        }
         let v = match self.store.node(e).clone() {
-            Node::Num(q) => (self.constant(q.abs()), q.is_negative()),
+            Node::Num(q) if q.is_zero() => (self.constant(q), Q::one()),
+            Node::Num(q) => (self.constant(Q::one()), q),
             Node::Symbol(n) => {
                 let (array, index) = match self.store.symbols()[n as usize].kind {
                     SymbolKind::Coordinate(i) => (InputArray::X, i),
@@ -112,9 +209,9 @@ impl Lowerer<'_> {
                     SymbolKind::Vector(i) => (InputArray::V, i),
                     SymbolKind::Differential(i) => (InputArray::U, i),
                 };
-                (self.emit(Instr::Input(array, index as u16)), false)
+                (self.emit(Instr::Input(array, index as u16)), Q::one())
             }
-            Node::Constant(c) => (self.emit(Instr::Named(c)), false),
+            Node::Constant(c) => (self.emit(Instr::Named(c)), Q::one()),
             Node::Add(c, _) => {
                 let items = self.factoring.sums.get(&e).cloned().unwrap_or_default();
                 self.lower_sum(&c, &items)
@@ -125,53 +222,59 @@ impl Lowerer<'_> {
             }
             Node::Call(f, a) => {
                 let a = self.lower(a);
-                (self.emit(Instr::Call(f, a)), false)
+                (self.emit(Instr::Call(f, a)), Q::one())
             }
             Node::Pow(b, x) => {
                 let b = self.lower(b);
                 let x = self.lower(x);
-                (self.emit(Instr::Powf(b, x)), false)
+                (self.emit(Instr::Powf(b, x)), Q::one())
             }
         };
-        self.memo.insert(e, v);
+        self.memo.insert(e, v.clone());
         v
     }
 
-    /// `c + Σ kᵢ tᵢ`: terms grouped by |k| so each distinct factor is applied once,
-    /// `|k|·(Σ± tᵢ)`, then the groups combined with additions and subtractions.
-    fn lower_sum(&mut self, c: &Q, terms: &[(usize, Q)]) -> (Val, bool) {
-        // f and −f are one value with two signs: normalise so that the term with the
-        // smallest index has a positive coefficient, and share the sum across both signs.
+    /// `c + Σ kᵢ tᵢ`, shared with every sum that differs from it by a constant factor.
+    fn lower_sum(&mut self, c: &Q, terms: &[(usize, Q)]) -> Scaled {
         let mut key: Vec<(usize, Q)> = terms.to_vec();
         key.sort_by_key(|t| t.0);
-        let flip = match key.first() {
-            Some((_, k)) => k.is_negative(),
-            None => c.is_negative(),
+        let lead = match key.first() {
+            Some((_, k)) => k.clone(),
+            None if c.is_zero() => Q::one(),
+            None => c.clone(),
         };
-        let c = if flip { -c } else { c.clone() };
-        if flip {
-            for t in &mut key {
-                t.1 = -t.1.clone();
-            }
+        for t in &mut key {
+            t.1 = &t.1 / &lead;
         }
-        let memo_key = (c.clone(), key);
-        if let Some(&(v, negated)) = self.sum_memo.get(&memo_key) {
-            return (v, negated != flip);
+        let memo_key = (c / &lead, key);
+        if let Some((v, k)) = self.sum_memo.get(&memo_key).cloned() {
+            return (v, k * lead);
         }
-        let (v, negated) = self.lower_normalized_sum(&c, &memo_key.1);
-        self.sum_memo.insert(memo_key, (v, negated));
-        (v, negated != flip)
+        let (v, k) = self.lower_normalized_sum(&memo_key.0, &memo_key.1);
+        self.sum_memo.insert(memo_key, (v, k.clone()));
+        (v, k * lead)
     }
 
-    fn lower_normalized_sum(&mut self, c: &Q, terms: &[(usize, Q)]) -> (Val, bool) {
-        let mut groups: BTreeMap<Q, (Vec<Val>, Vec<Val>)> = BTreeMap::new();
+    /// The sum with its most common coefficient divided out (it is what the sum owes), the
+    /// remaining terms grouped by coefficient so that each distinct factor is applied once,
+    /// `r·(Σ± tᵢ)`, then the groups combined with additions and subtractions.
+    fn lower_normalized_sum(&mut self, c: &Q, terms: &[(usize, Q)]) -> Scaled {
+        let mut items: Vec<(Val, Q)> = Vec::with_capacity(terms.len());
         for (t, k) in terms {
-            let (v, negated) = self.lower_term(*t);
-            let g = groups.entry(k.abs()).or_default();
-            if k.is_positive() != negated {
-                g.0.push(v);
+            let (v, owed) = self.lower_term(*t);
+            items.push((v, k * owed));
+        }
+        let Some(common) = most_common_magnitude(&items) else {
+            return (self.constant(c.clone()), Q::one());
+        };
+        let mut groups: BTreeMap<Q, (Vec<Val>, Vec<Val>)> = BTreeMap::new();
+        for (v, k) in &items {
+            let r = k / &common;
+            let g = groups.entry(r.abs()).or_default();
+            if r.is_positive() {
+                g.0.push(*v);
             } else {
-                g.1.push(v);
+                g.1.push(*v);
             }
         }
         // Signed parts of the final sum: (value, positive?).
@@ -181,16 +284,17 @@ impl Lowerer<'_> {
             parts.extend(pos.into_iter().map(|v| (v, true)));
             parts.extend(neg.into_iter().map(|v| (v, false)));
         }
-        for (k, (pos, neg)) in groups {
-            let kv = self.constant(k);
+        for (r, (pos, neg)) in groups {
+            let rv = self.constant(r);
             let (body, positive) = if pos.is_empty() {
                 (self.signed_sum(&neg, &[]), false)
             } else {
                 (self.signed_sum(&pos, &neg), true)
             };
-            let scaled = self.emit(Instr::Mul(kv, body));
+            let scaled = self.emit(Instr::Mul(rv, body));
             parts.push((scaled, positive));
         }
+        let c = c / &common;
         if !c.is_zero() {
             let cv = self.constant(c.abs());
             parts.push((cv, c.is_positive()));
@@ -198,9 +302,9 @@ impl Lowerer<'_> {
         let pos: Vec<Val> = parts.iter().filter(|p| p.1).map(|p| p.0).collect();
         let neg: Vec<Val> = parts.iter().filter(|p| !p.1).map(|p| p.0).collect();
         if pos.is_empty() {
-            (self.signed_sum(&neg, &[]), true)
+            (self.signed_sum(&neg, &[]), -common)
         } else {
-            (self.signed_sum(&pos, &neg), false)
+            (self.signed_sum(&pos, &neg), common)
         }
     }
 
@@ -223,61 +327,66 @@ impl Lowerer<'_> {
         acc
     }
 
-    fn lower_term(&mut self, t: usize) -> (Val, bool) {
-        if let Some(&v) = self.term_vals.get(&t) {
-            return v;
+    fn lower_term(&mut self, t: usize) -> Scaled {
+        if let Some(v) = self.term_vals.get(&t) {
+            return v.clone();
         }
         let v = match self.factoring.terms[t].clone() {
-            Term::Expr(e) => self.lower_signed(e),
+            Term::Expr(e) => self.lower_scaled(e),
             Term::Pair(a, b, k) => self.lower_sum(&Q::zero(), &[(a, Q::one()), (b, k)]),
         };
-        self.term_vals.insert(t, v);
+        self.term_vals.insert(t, v.clone());
         v
     }
 
-    fn lower_factor(&mut self, f: usize) -> (Val, bool) {
-        if let Some(&v) = self.factor_vals.get(&f) {
-            return v;
+    fn lower_factor(&mut self, f: usize) -> Scaled {
+        if let Some(v) = self.factor_vals.get(&f) {
+            return v.clone();
         }
         let v = match self.factoring.factors[f].clone() {
             Factor::Power(b, e) => {
-                let (bv, negated) = self.lower_signed(b);
-                // (−v)^n = ±v^n for integer n; other powers need the true base.
-                let (bv, sign) = if negated && e.is_integer() {
-                    (bv, e.numer().is_odd())
-                } else {
-                    (self.materialize(bv, negated), false)
+                let (bv, bk) = self.lower_scaled(b);
+                // (k·v)^e = k^e·v^e where k^e is rational: integer e, or a half-integer e
+                // of a positive square k; otherwise the power needs the true base.
+                let (bv, owed) = match owed_power(&bk, &e) {
+                    Some(owed) => (bv, owed),
+                    None => (self.materialize(bv, &bk), Q::one()),
                 };
-                if e.is_negative() {
+                let v = if e.is_negative() {
                     let one = self.constant(Q::one());
                     let r = self.emit(Instr::Div(one, bv));
-                    (self.power(r, &e.abs()), sign)
+                    self.power(r, &e.abs())
                 } else {
-                    (self.power(bv, &e), sign)
-                }
+                    self.power(bv, &e)
+                };
+                (v, owed)
             }
             Factor::Pair(a, b) => {
-                let ((a, na), (b, nb)) = (self.lower_factor(a), self.lower_factor(b));
-                (self.emit(Instr::Mul(a, b)), na != nb)
+                let ((a, ka), (b, kb)) = (self.lower_factor(a), self.lower_factor(b));
+                (self.emit(Instr::Mul(a, b)), ka * kb)
             }
         };
-        self.factor_vals.insert(f, v);
+        self.factor_vals.insert(f, v.clone());
         v
     }
 
     /// A product of factors; negative powers are powers of reciprocals (see [`Factoring`]).
-    fn lower_product(&mut self, factors: &[usize]) -> (Val, bool) {
-        let mut sign = false;
+    fn lower_product(&mut self, factors: &[usize]) -> Scaled {
+        let mut owed = Q::one();
         let mut vals = Vec::with_capacity(factors.len());
         for &f in factors {
-            let (v, negated) = self.lower_factor(f);
-            sign ^= negated;
+            let (v, k) = self.lower_factor(f);
+            owed *= k;
+            // A factor that was all constant is now all owed.
+            if self.constant_value(v).is_some_and(|c| c.is_one()) {
+                continue;
+            }
             vals.push(v);
         }
         let v = self
             .product(&vals)
             .unwrap_or_else(|| self.constant(Q::one()));
-        (v, sign)
+        (v, owed)
     }
 
     fn product(&mut self, vals: &[Val]) -> Option<Val> {
@@ -327,5 +436,53 @@ impl Lowerer<'_> {
                 }
             }
         }
+    }
+}
+
+/// The magnitude shared by the most coefficients (ties: the first term's, then the
+/// smallest), `None` for no terms. Dividing it out leaves the most unit coefficients.
+fn most_common_magnitude(items: &[(Val, Q)]) -> Option<Q> {
+    let first = items.first()?.1.abs();
+    let mut counts: BTreeMap<Q, usize> = BTreeMap::new();
+    for (_, k) in items {
+        *counts.entry(k.abs()).or_default() += 1;
+    }
+    let top = counts.values().copied().max().unwrap_or(0);
+    if counts.get(&first) == Some(&top) {
+        return Some(first);
+    }
+    counts.into_iter().find(|(_, n)| *n == top).map(|(k, _)| k)
+}
+
+/// `k^e` when it is rational and small: `e` an integer of magnitude at most 64, or a
+/// half-integer with `k` a positive square of integers.
+fn owed_power(k: &Q, e: &Q) -> Option<Q> {
+    if k.is_one() {
+        return Some(Q::one());
+    }
+    let n = e.numer().to_i32().filter(|n| n.abs() <= 64)?;
+    if e.is_integer() {
+        return Some(pow_i32(k, n));
+    }
+    if *e.denom() != 2.into() || !k.is_positive() {
+        return None;
+    }
+    let (num, den) = (k.numer().sqrt(), k.denom().sqrt());
+    if &(&num * &num) != k.numer() || &(&den * &den) != k.denom() {
+        return None;
+    }
+    Some(pow_i32(&Q::new(num, den), n))
+}
+
+/// `k^n` for an integer `n` (k nonzero).
+fn pow_i32(k: &Q, n: i32) -> Q {
+    let mut r = Q::one();
+    for _ in 0..n.unsigned_abs() {
+        r *= k;
+    }
+    if n < 0 {
+        r.recip()
+    } else {
+        r
     }
 }
