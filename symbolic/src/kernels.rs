@@ -101,7 +101,30 @@ fn lower_all(model: &MetricModel, d: &Derivation, curv: Option<&Curvature>) -> K
                 ),
                 _ => (Vec::new(), vec![0]),
             };
-            lower(s, kind, n, &outs, shape)
+            let program = lower(s, kind, n, &outs, shape.clone());
+            // Another route to the same values: keep whichever schedules to fewer operations
+            // (ties keep the first, so the choice is deterministic).
+            let other: Option<Vec<ExprId>> = match kind {
+                KernelKind::Accel => Some(d.accel_by_components.clone()),
+                KernelKind::Hamilton => {
+                    let mut o = d.hamilton_dx.clone();
+                    o.extend(&d.hamilton_dp_by_momentum);
+                    Some(o)
+                }
+                KernelKind::Norm => Some(vec![d.norm_by_momentum]),
+                _ => None,
+            };
+            match other {
+                Some(outs) => {
+                    let alternative = lower(s, kind, n, &outs, shape);
+                    if alternative.op_counts().total() < program.op_counts().total() {
+                        alternative
+                    } else {
+                        program
+                    }
+                }
+                None => program,
+            }
         })
         .collect();
     let mut ricci_zeros = Vec::new();

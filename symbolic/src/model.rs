@@ -36,6 +36,7 @@ pub fn build_model(decl: &MetricDecl) -> Result<MetricModel, Diagnostics> {
         match item {
             ast::Item::Let { value, .. } => {
                 let e = b.lower(value, &symbols);
+                let e = b.store.bind(e);
                 b.lets.push(e);
             }
             ast::Item::Component {

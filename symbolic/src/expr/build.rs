@@ -173,7 +173,8 @@ impl Store {
     /// powers merge in every term on average (`r⁻²·(2r·u + r²·v)` becomes `2r⁻¹·u + v`);
     /// otherwise the plain product, which keeps the sum shared.
     pub fn mul_distributed(&mut self, a: ExprId, b: ExprId) -> ExprId {
-        let (Node::Add(c, ts), false) = (self.node(b).clone(), matches!(self.node(a), Node::Add(..)))
+        let (Node::Add(c, ts), false) =
+            (self.node(b).clone(), matches!(self.node(a), Node::Add(..)))
         else {
             return self.mul(&[a, b]);
         };
@@ -196,6 +197,16 @@ impl Store {
             return self.mul(&[a, b]);
         }
         self.lincomb(&parts)
+    }
+
+    /// `a` kept whole (see [`Node::Bound`]), unless it is already an atom or a sum of at
+    /// most one term (`k·t` or `c + t`), which gains nothing from being kept whole.
+    pub fn bind(&mut self, a: ExprId) -> ExprId {
+        match self.node(a) {
+            Node::Num(_) | Node::Symbol(_) | Node::Constant(_) | Node::Bound(_) => a,
+            Node::Add(_, ts) if ts.len() < 2 => a,
+            _ => self.intern(Node::Bound(a)),
+        }
     }
 
     /// `a / b`; a division by an exact zero is recorded (see

@@ -67,6 +67,13 @@ impl Store {
                 let inner = self.add(&[t1, t2]);
                 self.mul(&[e, inner])
             }
+            // A named piece's derivative is named too, with its common factors pulled out:
+            // the product rule acting on it stays as short as the declaration.
+            Node::Bound(a) => {
+                let da = self.diff_sym(a, sym);
+                let da = self.collect_common(da);
+                self.bind(da)
+            }
         };
         self.diff_cache.insert((e, sym), d);
         d
@@ -170,6 +177,10 @@ impl Store {
                 let nx = self.subst_rec(x, map, memo);
                 self.pow(nb, nx)
             }
+            Node::Bound(a) => {
+                let na = self.subst_rec(a, map, memo);
+                self.bind(na)
+            }
         };
         memo.insert(e, r);
         r
@@ -180,6 +191,41 @@ impl Store {
 mod tests {
     use super::super::SymbolKind;
     use super::*;
+
+    /// A named piece differentiates to a named piece with the value of the plain derivative,
+    /// and stays one atom in products (no flattening into its factors).
+    #[test]
+    fn bound_pieces_keep_their_shape_and_value() {
+        let mut s = Store::new();
+        let x = s.symbol("x", SymbolKind::Coordinate(0));
+        let y = s.symbol("y", SymbolKind::Coordinate(1));
+        let x2 = s.powi(x, 2);
+        let plain = s.mul(&[x2, y]);
+        let bound = s.bind(plain);
+        assert!(matches!(s.node(bound), Node::Bound(_)));
+        let prod = s.mul(&[bound, x]);
+        let Node::Mul(factors) = s.node(prod).clone() else {
+            panic!("a product");
+        };
+        assert_eq!(
+            factors.len(),
+            2,
+            "bound piece stays whole: {}",
+            s.display(prod)
+        );
+        let d_bound = s.diff(prod, x);
+        let plain_prod = s.mul(&[plain, x]);
+        let d_plain = s.diff(plain_prod, x);
+        for (xv, yv) in [(0.5, 2.0), (-1.5, 0.3)] {
+            let at = |sym: &super::super::Symbol| if sym.name == "x" { xv } else { yv };
+            let (a, b) = (s.eval(d_bound, &at), s.eval(d_plain, &at));
+            assert!((a - b).abs() < 1e-14 * a.abs().max(1.0), "{a} vs {b}");
+        }
+        // Atoms and single-term sums are never wrapped.
+        assert_eq!(s.bind(x), x);
+        let two_x = s.scale(x, Q::from_integer(2.into()));
+        assert_eq!(s.bind(two_x), two_x);
+    }
 
     #[test]
     fn product_and_chain_rules() {

@@ -67,6 +67,11 @@ impl Store {
                 self.write(*x, out);
                 out.push(')');
             }
+            Node::Bound(a) => {
+                out.push('[');
+                self.write(*a, out);
+                out.push(']');
+            }
         }
     }
 }

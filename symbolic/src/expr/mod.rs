@@ -20,6 +20,7 @@
 
 mod build;
 mod calculus;
+mod collect;
 mod display;
 mod zero;
 
@@ -190,6 +191,11 @@ pub enum Node {
     Call(Func, ExprId),
     /// `base^exponent` with a non-numeric exponent.
     Pow(ExprId, ExprId),
+    /// A subexpression kept whole: sums and products treat it as an atom, so the structure a
+    /// declaration names (a `let` helper) survives into derivatives (the product rule then
+    /// acts on `f·l`, not on every factor of both). Its value is its operand's; it costs
+    /// nothing when lowered.
+    Bound(ExprId),
 }
 
 /// Maximum number of distinct symbols a store tracks dependencies for.
@@ -339,7 +345,7 @@ impl Store {
                     deps.union(&self.deps[t.index()]);
                 }
             }
-            Node::Call(_, a) => deps = self.deps[a.index()],
+            Node::Call(_, a) | Node::Bound(a) => deps = self.deps[a.index()],
             Node::Pow(b, e) => {
                 deps = self.deps[b.index()];
                 deps.union(&self.deps[e.index()]);
@@ -372,6 +378,7 @@ impl Store {
                     .fold(1.0, |acc, (b, e)| acc * pow_q_f64(v[b.index()], e)),
                 Node::Call(f, a) => f.eval(v[a.index()]),
                 Node::Pow(b, e) => v[b.index()].powf(v[e.index()]),
+                Node::Bound(a) => v[a.index()],
             };
         }
         v
@@ -402,6 +409,7 @@ impl Store {
                     };
                     acc * pow_q_f64(base, e)
                 }),
+                Node::Bound(a) => m[a.index()],
                 _ => v[i].abs(),
             };
         }

@@ -84,6 +84,7 @@ fn build(s: &Store, e: ExprId, memo: &mut Memo) -> Option<RatFun> {
     };
     match s.node(e) {
         Node::Num(q) => plain(constant(q.clone())),
+        Node::Bound(a) => build(s, *a, memo),
         Node::Call(Func::Sin, a) => plain(atom_poly(Atom::Sin(*a))),
         Node::Call(Func::Cos, a) => plain(atom_poly(Atom::Cos(*a))),
         Node::Symbol(_) | Node::Constant(_) | Node::Call(..) | Node::Pow(..) => {

@@ -2,11 +2,14 @@
 //! right-hand sides of the geodesic equations, all as expressions in one [`Store`].
 //!
 //! Every kernel is built the cheap way before any scheduling happens: the geodesic
-//! acceleration contracts ∂g with the velocity before raising the index, so it never sums a
-//! full Γ array, and Hamilton's equations reuse the same contraction with u = g⁻¹p.
+//! acceleration contracts with the velocity before raising the index, so it never sums a
+//! full Γ array, and Hamilton's equations reuse the same contraction with u = g⁻¹p. Both are
+//! built two ways, from the contracted metric derivatives and from the derivative of the
+//! factored momentum p = g·u (see [`momentum`]), and the scheduler keeps the cheaper.
 
 mod curvature;
 mod inverse;
+pub(crate) mod momentum;
 mod sample;
 
 pub use curvature::{derive_curvature, zero_status, Curvature, ZeroStatus};
@@ -82,16 +85,23 @@ pub struct Derivation {
     pub inverse: Vec<Vec<ExprId>>,
     /// Γ^a_bc, `[a][b][c]`.
     pub christoffel: Vec<Vec<Vec<ExprId>>>,
-    /// −Γ^a_bc u^b u^c over velocity symbols.
+    /// −Γ^a_bc u^b u^c over velocity symbols, through the factored momentum.
     pub accel: Vec<ExprId>,
+    /// The same, from the contracted metric derivatives: the scheduler keeps whichever
+    /// lowers to fewer operations.
+    pub accel_by_components: Vec<ExprId>,
     /// dx/dλ of Hamilton's equations, over momentum symbols.
     pub hamilton_dx: Vec<ExprId>,
     /// dp/dλ of Hamilton's equations, over momentum symbols.
     pub hamilton_dp: Vec<ExprId>,
+    /// The same through the factored momentum (the cheaper one is kept).
+    pub hamilton_dp_by_momentum: Vec<ExprId>,
     /// −Γ^a_bc u^b v^c over velocity and vector symbols.
     pub transport: Vec<ExprId>,
     /// g_ab u^a u^b.
     pub norm: ExprId,
+    /// The same as u^a p_a with the factored momentum (the cheaper one is kept).
+    pub norm_by_momentum: ExprId,
     /// (coordinate, p_k = g_kb u^b) for each coordinate the metric does not depend on.
     pub conserved: Vec<(usize, ExprId)>,
     /// The user's invariants with p_a replaced by g_ab u^b.
@@ -157,7 +167,12 @@ pub fn derive(model: &mut MetricModel) -> Result<Derivation, InverseError> {
         }
     }
 
+    let momentum = momentum::Momentum::new(s, &g, &xs, &u);
     let accel = {
+        let w = momentum.lowered_accel(s, &u);
+        raise_negated(s, &inverse, &w)
+    };
+    let accel_by_components = {
         let w = lowered_accel(s, &dg, &u);
         raise_negated(s, &inverse, &w)
     };
@@ -171,6 +186,7 @@ pub fn derive(model: &mut MetricModel) -> Result<Derivation, InverseError> {
             s.scale(q, half.clone())
         })
         .collect();
+    let hamilton_dp_by_momentum = momentum.hamilton_dp(s, &u, &hamilton_dx);
 
     // Parallel transport: w_d = Γ_dbc u^b v^c = ½[(∂_u g · v)_d + (∂_v g · u)_d − u·∂_d g·v].
     let transport = {
@@ -194,6 +210,7 @@ pub fn derive(model: &mut MetricModel) -> Result<Derivation, InverseError> {
 
     let gu = contract(s, &g, &u);
     let norm = dot(s, &u, &gu);
+    let norm_by_momentum = dot(s, &u, &momentum.p);
 
     let conserved: Vec<(usize, ExprId)> = (0..n)
         .filter(|&k| {
@@ -216,10 +233,13 @@ pub fn derive(model: &mut MetricModel) -> Result<Derivation, InverseError> {
         inverse,
         christoffel,
         accel,
+        accel_by_components,
         hamilton_dx,
         hamilton_dp,
+        hamilton_dp_by_momentum,
         transport,
         norm,
+        norm_by_momentum,
         conserved,
         invariants,
     })

@@ -251,7 +251,7 @@ fn reachable(store: &Store, roots: &[ExprId]) -> Vec<bool> {
                     seen[t.index()] = true;
                 }
             }
-            Node::Call(_, a) => seen[a.index()] = true,
+            Node::Call(_, a) | Node::Bound(a) => seen[a.index()] = true,
             Node::Pow(b, e) => {
                 seen[b.index()] = true;
                 seen[e.index()] = true;

@@ -229,6 +229,7 @@ impl Lowerer<'_> {
                 let x = self.lower(x);
                 (self.emit(Instr::Powf(b, x)), Q::one())
             }
+            Node::Bound(a) => self.lower_scaled(a),
         };
         self.memo.insert(e, v.clone());
         v
@@ -262,8 +263,15 @@ impl Lowerer<'_> {
         let mut items: Vec<(Val, Q)> = Vec::with_capacity(terms.len());
         for (t, k) in terms {
             let (v, owed) = self.lower_term(*t);
-            items.push((v, k * owed));
+            let k = k * owed;
+            // Two terms of different form may lower to one value (a named piece and the
+            // same expression written out): their coefficients add.
+            match items.iter_mut().find(|(w, _)| *w == v) {
+                Some(item) => item.1 += k,
+                None => items.push((v, k)),
+            }
         }
+        items.retain(|(_, k)| !k.is_zero());
         let Some(common) = most_common_magnitude(&items) else {
             return (self.constant(c.clone()), Q::one());
         };
@@ -352,7 +360,13 @@ impl Lowerer<'_> {
                     Some(owed) => (bv, owed),
                     None => (self.materialize(bv, &bk), Q::one()),
                 };
-                let v = if e.is_negative() {
+                let v = if e.is_negative() && *e.denom() == 2.into() {
+                    // b^(−n/2) = (1/√b)^n: the square root is the one b^(1/2) uses.
+                    let root = self.emit(Instr::Sqrt(bv));
+                    let one = self.constant(Q::one());
+                    let r = self.emit(Instr::Div(one, root));
+                    self.power(r, &Q::from_integer(e.numer().abs()))
+                } else if e.is_negative() {
                     let one = self.constant(Q::one());
                     let r = self.emit(Instr::Div(one, bv));
                     self.power(r, &e.abs())
