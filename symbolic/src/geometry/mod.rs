@@ -5,7 +5,7 @@
 //! acceleration contracts with the velocity before raising the index, so it never sums a
 //! full Γ array, and Hamilton's equations reuse the same contraction with u = g⁻¹p. Both are
 //! built two ways, from the contracted metric derivatives and from the derivative of the
-//! factored momentum p = g·u (see [`momentum`]), and the scheduler keeps the cheaper.
+//! factored momentum p = g·u (the `momentum` module), and the scheduler keeps the cheaper.
 
 mod curvature;
 mod inverse;
