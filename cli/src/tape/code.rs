@@ -8,23 +8,15 @@ use super::MAX_REGISTERS;
 /// A register number.
 pub(super) type Reg = u16;
 
-/// `d = (a·b)·e + c`: `d | a << 16 | b << 32 | c << 48` in one word, `e` in the next, so it is
-/// read with two loads.
+/// `d = (a·b)·e + c`: `a | b << 16 | e << 32 | c << 48`, one word read with one load. The
+/// destination is implicit: registers are numbered so that the uniform instruction at
+/// position `k` of the tape writes register `base + k`.
 #[derive(Clone, Copy, Debug, PartialEq)]
-#[repr(C, align(16))]
-pub(super) struct Uniform {
-    pub main: u64,
-    pub e: u64,
-}
+pub(super) struct Uniform(pub u64);
 
 impl Uniform {
-    pub(super) fn new(d: Reg, f: Form) -> Uniform {
-        let main =
-            u64::from(d) | u64::from(f.a) << 16 | u64::from(f.b) << 32 | u64::from(f.c) << 48;
-        Uniform {
-            main,
-            e: u64::from(f.e),
-        }
+    pub(super) fn new(f: Form) -> Uniform {
+        Uniform(u64::from(f.a) | u64::from(f.b) << 16 | u64::from(f.e) << 32 | u64::from(f.c) << 48)
     }
 }
 
@@ -89,17 +81,71 @@ pub(super) struct Form {
     pub c: Reg,
 }
 
+impl Special {
+    /// The registers it writes.
+    pub(super) fn writes(&self) -> [Option<Reg>; 2] {
+        match *self {
+            Special::Div { d, .. }
+            | Special::Sqrt { d, .. }
+            | Special::Call { d, .. }
+            | Special::Powf { d, .. } => [Some(d), None],
+            Special::SinCos { d, c, .. } => [Some(d), Some(c)],
+        }
+    }
+
+    /// The same operation on registers renamed by `m`.
+    pub(super) fn renamed(self, m: impl Fn(Reg) -> Reg) -> Special {
+        match self {
+            Special::Div { d, a, b } => Special::Div {
+                d: m(d),
+                a: m(a),
+                b: m(b),
+            },
+            Special::Sqrt { d, a } => Special::Sqrt { d: m(d), a: m(a) },
+            Special::Call { d, a, f } => Special::Call {
+                d: m(d),
+                a: m(a),
+                f,
+            },
+            Special::SinCos { d, c, a } => Special::SinCos {
+                d: m(d),
+                c: m(c),
+                a: m(a),
+            },
+            Special::Powf { d, a, b } => Special::Powf {
+                d: m(d),
+                a: m(a),
+                b: m(b),
+            },
+        }
+    }
+}
+
 /// The interpreter loop. Register numbers are 16-bit and the file holds 2^16 registers, so
-/// no index can be out of range.
+/// no index can be out of range. `base` is the register the first uniform instruction
+/// writes.
 #[inline]
-pub(super) fn run(steps: &[Step], uniform: &[Uniform], r: &mut [f64; MAX_REGISTERS]) {
+pub(super) fn run(steps: &[Step], uniform: &[Uniform], base: Reg, r: &mut [f64; MAX_REGISTERS]) {
     for step in steps {
         match *step {
             Step::Uniform { start, end } => {
-                for word in uniform.get(start as usize..end as usize).unwrap_or(&[]) {
-                    let field = |k: u32| usize::from((word.main >> (16 * k)) as Reg);
-                    let e = usize::from(word.e as Reg);
-                    r[field(0)] = r[field(1)] * r[field(2)] * r[e] + r[field(3)];
+                // Wrapping keeps the index 16-bit for the compiler; compiling numbered the
+                // registers so that it never wraps.
+                let mut d = base.wrapping_add(start as Reg);
+                let words = uniform.get(start as usize..end as usize).unwrap_or(&[]);
+                // Two instructions per iteration halve the loop's own counting and
+                // branching; each still completes before the next reads.
+                let pairs = words.chunks_exact(2);
+                let last = pairs.remainder();
+                for pair in pairs {
+                    if let [Uniform(w), Uniform(v)] = *pair {
+                        uniform_step(r, d, w);
+                        uniform_step(r, d.wrapping_add(1), v);
+                    }
+                    d = d.wrapping_add(2);
+                }
+                if let [Uniform(w)] = *last {
+                    uniform_step(r, d, w);
                 }
             }
             Step::Special(special) => {
@@ -118,4 +164,11 @@ pub(super) fn run(steps: &[Step], uniform: &[Uniform], r: &mut [f64; MAX_REGISTE
             }
         }
     }
+}
+
+/// One uniform instruction `w`, writing register `d`.
+#[inline(always)]
+fn uniform_step(r: &mut [f64; MAX_REGISTERS], d: Reg, w: u64) {
+    let field = |k: u32| usize::from((w >> (16 * k)) as Reg);
+    r[usize::from(d)] = r[field(0)] * r[field(1)] * r[field(2)] + r[field(3)];
 }

@@ -76,16 +76,14 @@ impl Tape {
             partner[s as usize] = Some(c);
             partner[c as usize] = Some(s);
         }
-        let (forms, absorbed) = arithmetic_forms(
-            program,
-            Constants {
-                one,
-                minus_one,
-                minus_zero,
-            },
-        );
+        let constants = Constants {
+            one,
+            minus_one,
+            minus_zero,
+        };
+        let (forms, absorbed) = arithmetic_forms(program, constants);
         let mut loads = Vec::new();
-        let mut schedule = Schedule::new(count + RESERVED);
+        let mut schedule = Schedule::new(count + RESERVED, constants);
         for (i, ins) in program.instrs.iter().enumerate() {
             let d = i as Reg;
             let special = match ins {
@@ -149,14 +147,52 @@ impl Tape {
             };
             schedule.special(special);
         }
-        let (steps, uniform) = schedule.finish();
+        let order = schedule.finish();
+        // Registers are renumbered: those written by presets, loads and special operations
+        // first, in their old order, then one per uniform instruction in tape order, so a
+        // uniform instruction's destination is implicit. Every register an instruction or
+        // an output reads is written by one of those (absorbed values are never read), and
+        // there are at most `count + RESERVED` of them.
+        let total = count + RESERVED;
+        let mut fixed = vec![false; total];
+        for &(r, _) in &presets {
+            fixed[usize::from(r)] = true;
+        }
+        for load in &loads {
+            fixed[usize::from(load.register)] = true;
+        }
+        for special in order.iter().filter_map(|op| op.as_ref().err()) {
+            for r in special.writes().into_iter().flatten() {
+                fixed[usize::from(r)] = true;
+            }
+        }
+        let mut map = vec![0 as Reg; total];
+        let mut next = 0;
+        for (old, _) in fixed.iter().enumerate().filter(|(_, &f)| f) {
+            map[old] = next as Reg;
+            next += 1;
+        }
+        let base = next as Reg;
+        for &(d, _) in order.iter().filter_map(|op| op.as_ref().ok()) {
+            map[usize::from(d)] = next as Reg;
+            next += 1;
+        }
+        let m = |r: Reg| map[usize::from(r)];
+        let (steps, uniform) = lay_out(&order, m);
         Ok(Tape {
             kind: program.kind,
-            presets,
-            loads,
+            presets: presets.into_iter().map(|(r, p)| (m(r), p)).collect(),
+            loads: loads
+                .into_iter()
+                .map(|l| Load {
+                    register: m(l.register),
+                    ..l
+                })
+                .collect(),
             steps,
             uniform,
-            outputs: program.outputs.iter().map(|&v| reg(v)).collect(),
+            base,
+            outputs: program.outputs.iter().map(|&v| m(reg(v))).collect(),
             shape: program.shape.clone(),
         })
     }
@@ -177,7 +213,7 @@ fn operands(ins: &Instr) -> impl Iterator<Item = Val> {
 }
 
 /// The registers holding 1, -1 and -0.
-#[derive(Clone, Copy)]
+#[derive(Clone, Copy, Debug)]
 struct Constants {
     one: Reg,
     minus_one: Reg,
@@ -288,6 +324,9 @@ fn arithmetic_forms(program: &KernelProgram, k: Constants) -> (Vec<Option<Form>>
     (form, absorbed)
 }
 
+/// A uniform instruction with the register it writes, or a special operation.
+type Op = Result<(Reg, Form), Special>;
+
 /// Orders the operations by level and collects uniform instructions into runs between
 /// special operations.
 ///
@@ -295,13 +334,15 @@ fn arithmetic_forms(program: &KernelProgram, k: Constants) -> (Vec<Option<Form>>
 /// constants are level 0). Within a level the uniform instructions come first, so each level
 /// adds at most one run.
 struct Schedule {
+    constants: Constants,
     level: Vec<u32>,
-    ops: Vec<(u32, bool, usize, Result<Uniform, Special>)>,
+    ops: Vec<(u32, bool, usize, Op)>,
 }
 
 impl Schedule {
-    fn new(registers: usize) -> Self {
+    fn new(registers: usize, constants: Constants) -> Self {
         Schedule {
+            constants,
             level: vec![0; registers],
             ops: Vec::new(),
         }
@@ -316,10 +357,10 @@ impl Schedule {
     }
 
     fn uniform(&mut self, d: Reg, f: Form) {
+        let f = placed(f, self.constants, |r| self.level[usize::from(r)]);
         let level = self.level_after(&[f.a, f.b, f.e, f.c]);
         self.level[usize::from(d)] = level;
-        self.ops
-            .push((level, false, self.ops.len(), Ok(Uniform::new(d, f))));
+        self.ops.push((level, false, self.ops.len(), Ok((d, f))));
     }
 
     fn special(&mut self, op: Special) {
@@ -335,31 +376,94 @@ impl Schedule {
         self.ops.push((level, true, self.ops.len(), Err(op)));
     }
 
-    fn finish(mut self) -> (Vec<Step>, Vec<Uniform>) {
+    /// The operations in tape order.
+    fn finish(mut self) -> Vec<Op> {
         self.ops
             .sort_by_key(|(level, special, seq, _)| (*level, *special, *seq));
-        let mut steps = Vec::new();
-        let mut uniform = Vec::with_capacity(self.ops.len());
-        let mut start = 0;
-        let close = |steps: &mut Vec<Step>, uniform: &Vec<Uniform>, start: &mut usize| {
-            if uniform.len() > *start {
-                steps.push(Step::Uniform {
-                    start: *start as u32,
-                    end: uniform.len() as u32,
-                });
-                *start = uniform.len();
-            }
-        };
-        for (_, _, _, op) in self.ops {
-            match op {
-                Ok(word) => uniform.push(word),
-                Err(special) => {
-                    close(&mut steps, &uniform, &mut start);
-                    steps.push(Step::Special(special));
-                }
+        self.ops.into_iter().map(|(_, _, _, op)| op).collect()
+    }
+}
+
+/// The steps and the uniform instructions of a tape, from its operations in tape order and
+/// the numbering of its registers.
+fn lay_out(order: &[Op], m: impl Fn(Reg) -> Reg) -> (Vec<Step>, Vec<Uniform>) {
+    let mut steps = Vec::new();
+    let mut uniform = Vec::with_capacity(order.len());
+    let mut start = 0;
+    let close = |steps: &mut Vec<Step>, uniform: &Vec<Uniform>, start: &mut usize| {
+        if uniform.len() > *start {
+            steps.push(Step::Uniform {
+                start: *start as u32,
+                end: uniform.len() as u32,
+            });
+            *start = uniform.len();
+        }
+    };
+    for op in order {
+        match *op {
+            Ok((_, f)) => uniform.push(Uniform::new(Form {
+                a: m(f.a),
+                b: m(f.b),
+                e: m(f.e),
+                c: m(f.c),
+            })),
+            Err(special) => {
+                close(&mut steps, &uniform, &mut start);
+                steps.push(Step::Special(special.renamed(&m)));
             }
         }
-        close(&mut steps, &uniform, &mut start);
-        (steps, uniform)
+    }
+    close(&mut steps, &uniform, &mut start);
+    (steps, uniform)
+}
+
+/// `f` with its operands moved, where that is exact, so that the one computed last (the
+/// highest `level`) goes through the fewest operations of `(a·b)·e + c`: `c` is one addition
+/// from the result, `e` a multiplication and an addition, `a` and `b` all three. The
+/// processor starts on the earlier operands while the late one is still being computed.
+///
+/// Exact because multiplying by 1 or -1 is (`(1·1)·x = x`, `(1·(-1))·y = -y`) and because
+/// sums and products commute bit for bit (up to which NaN comes out, which carries no
+/// meaning).
+fn placed(f: Form, k: Constants, level: impl Fn(Reg) -> u32) -> Form {
+    let Form { a, b, e, c } = f;
+    let later_last = |x: Reg, y: Reg| {
+        if level(x) > level(y) {
+            (y, x)
+        } else {
+            (x, y)
+        }
+    };
+    if e != k.one {
+        return f;
+    }
+    if b == k.one {
+        // x + y as (1·1)·x + y.
+        let (x, y) = later_last(a, c);
+        Form {
+            a: k.one,
+            b: k.one,
+            e: x,
+            c: y,
+        }
+    } else if b == k.minus_one {
+        // c - a (and -a, with c = -0) as (1·(-1))·a + c.
+        Form {
+            a: k.one,
+            b: k.minus_one,
+            e: a,
+            c,
+        }
+    } else if c == k.minus_zero {
+        // x·y as (x·1)·y + (-0).
+        let (x, y) = later_last(a, b);
+        Form {
+            a: x,
+            b: k.one,
+            e: y,
+            c,
+        }
+    } else {
+        f
     }
 }

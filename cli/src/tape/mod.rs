@@ -4,16 +4,21 @@
 //! it into a [`Tape`]: a flat array of instructions over numbered `f64` registers, evaluated
 //! with no allocation (the caller keeps the [`Registers`]).
 //!
-//! Three choices make it fast:
+//! Four choices make it fast:
 //!
 //! - **One uniform instruction.** Additions, subtractions, multiplications and negations,
 //!   nearly all of a kernel's work, are each `d = (a·b)·e + c` over registers, with the
-//!   constants 1, -1 and -0 kept in registers: `x·y` is `(x·y)·1 + (-0)`, `x + y` is
-//!   `(x·1)·1 + y`, `x - y` is `(y·(-1))·1 + x`. Multiplying by ±1 and adding -0 are exact, so
-//!   the result is bit for bit the one compiled code gets, signed zeros and non-finite values
-//!   included. A product used once is fused into its user (`(a·b)·e`, `(a·b)·e + c`,
+//!   constants 1, -1 and -0 kept in registers: `x·y` is `(x·1)·y + (-0)`, `x + y` is
+//!   `(1·1)·x + y`, `x - y` is `(1·(-1))·y + x`. Multiplying by ±1 and adding -0 are exact,
+//!   so the result is bit for bit the one compiled code gets, signed zeros and non-finite
+//!   values included. A product used once is fused into its user (`(a·b)·e`, `(a·b)·e + c`,
 //!   `x - a·b`), rounding exactly as compiled code does, step by step. So the interpreter's
-//!   inner loop has no branch to mispredict, and one instruction is two 64-bit words.
+//!   inner loop has no branch to mispredict. The operand computed last goes where the
+//!   fewest operations follow it (`c`, then `e`), where swapping is exact.
+//! - **One word per instruction.** Registers are numbered so that the uniform instruction
+//!   at position `k` of the tape writes register `base + k`: the destination is implicit, and
+//!   the four operands, 16 bits each, fill one 64-bit word. The loop runs two instructions
+//!   per iteration (each completes before the next reads).
 //! - **Level order.** Instructions run ordered by their depth in the expression graph, so
 //!   neighbours on the tape are mostly independent and the processor overlaps them, instead
 //!   of waiting on each result in turn. Divisions, square roots and functions, rare, are
@@ -47,6 +52,7 @@
 
 mod code;
 mod compile;
+pub mod lanes;
 #[cfg(test)]
 mod tests;
 
@@ -130,6 +136,8 @@ pub struct Tape {
     loads: Vec<Load>,
     steps: Vec<Step>,
     uniform: Vec<Uniform>,
+    /// The register the first uniform instruction writes.
+    base: Reg,
     outputs: Vec<Reg>,
     shape: Vec<usize>,
 }
@@ -191,7 +199,7 @@ impl Tape {
         for load in &self.loads {
             r[usize::from(load.register)] = inputs.get(load.array, load.index);
         }
-        run(&self.steps, &self.uniform, r);
+        run(&self.steps, &self.uniform, self.base, r);
         for (o, &v) in out.iter_mut().zip(&self.outputs) {
             *o = r[usize::from(v)];
         }

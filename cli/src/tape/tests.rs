@@ -158,3 +158,120 @@ fn missing_inputs_read_as_nan() {
     assert!(out[3].is_nan());
     assert_eq!(out[0], 1.0);
 }
+
+/// Additions, subtractions, multiplications and negations with the late operand on either
+/// side (so the operand placement takes both branches), a fused `z - x·y` and `-(y·z)`, at
+/// every combination of signed zeros, infinities, NaN, the largest and the smallest
+/// subnormal value: bit for bit the reference interpreter's.
+#[test]
+fn placed_operands_keep_every_bit() {
+    use Instr::{Add, Input, Mul, Neg, Sub};
+    let x = InputArray::X;
+    let program = geokern_symbolic::program::KernelProgram {
+        kind: KernelKind::Metric,
+        dim: 3,
+        instrs: vec![
+            Input(x, 0),
+            Input(x, 1),
+            Input(x, 2),
+            Add(0, 1),
+            // Value 4 is two levels deep, so it arrives after the inputs.
+            Mul(3, 2),
+            Add(4, 0),
+            Add(0, 4),
+            Sub(4, 0),
+            Sub(0, 4),
+            Mul(4, 0),
+            Mul(0, 4),
+            Neg(4),
+            Neg(0),
+            Mul(0, 1),
+            Sub(2, 13),
+            Mul(1, 2),
+            Neg(15),
+        ],
+        outputs: vec![3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 14, 16],
+        shape: vec![12],
+    };
+    let tape = Tape::compile(&program, 0).expect("compiles");
+    // The two single-use products are fused into their users.
+    assert_eq!(tape.op_len(), 12);
+    let values = [
+        0.0,
+        -0.0,
+        1.5,
+        -2.25,
+        f64::INFINITY,
+        f64::NEG_INFINITY,
+        f64::NAN,
+        f64::MAX,
+        f64::from_bits(1),
+    ];
+    let bits = |v: &[f64]| {
+        v.iter()
+            .map(|f| if f.is_nan() { u64::MAX } else { f.to_bits() })
+            .collect::<Vec<_>>()
+    };
+    let mut regs = tape.registers(&[]);
+    for a in values {
+        for b in values {
+            for c in values {
+                let point = [a, b, c];
+                let mut got = vec![0.0; tape.output_len()];
+                tape.eval(
+                    &mut regs,
+                    &Inputs {
+                        x: &point,
+                        ..Inputs::default()
+                    },
+                    &mut got,
+                );
+                let mut want = Vec::new();
+                program.eval_f64(
+                    &|array| match array {
+                        InputArray::X => point.to_vec(),
+                        _ => Vec::new(),
+                    },
+                    &mut want,
+                );
+                assert_eq!(bits(&got), bits(&want), "at {point:?}: {got:?} vs {want:?}");
+            }
+        }
+    }
+}
+
+/// Renumbering gives every register one writer: presets, loads and special operations
+/// below `base`, uniform instruction `k` at `base + k`, nothing beyond.
+#[test]
+fn every_register_has_one_writer() {
+    let ks = kernels(KERR);
+    for program in &ks.programs {
+        let tape = Tape::compile(program, 2).expect("engine programs compile");
+        let base = usize::from(tape.base);
+        let mut writes: Vec<usize> = tape.presets.iter().map(|&(r, _)| usize::from(r)).collect();
+        writes.extend(tape.loads.iter().map(|l| usize::from(l.register)));
+        for step in &tape.steps {
+            if let Step::Special(special) = step {
+                writes.extend(special.writes().into_iter().flatten().map(usize::from));
+            }
+        }
+        assert!(writes.iter().all(|&r| r < base), "{:?}", program.kind);
+        writes.extend(base..base + tape.uniform.len());
+        let count = writes.len();
+        writes.sort_unstable();
+        writes.dedup();
+        assert_eq!(
+            writes.len(),
+            count,
+            "{:?}: a register written twice",
+            program.kind
+        );
+        assert_eq!(
+            writes.last().copied(),
+            Some(count - 1),
+            "{:?}",
+            program.kind
+        );
+        assert!(count <= program.instrs.len() + RESERVED);
+    }
+}
