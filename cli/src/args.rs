@@ -31,6 +31,10 @@ pub enum Command {
     Stats(StatsArgs),
     /// Derive a built-in spacetime and integrate a few geodesics through it.
     Demo(DemoArgs),
+    /// Trace one light ray per pixel of a pinhole camera: shadow, lensed disk and sky.
+    Render(crate::commands::render::RenderArgs),
+    /// Circular orbits (innermost stable, photon, angular velocity) as a parameter varies.
+    Survey(crate::commands::survey::SurveyArgs),
 }
 
 /// Which metric of which file.
@@ -140,6 +144,9 @@ pub struct TraceArgs {
     /// (g(u,u) = -1), null (g(u,u) = 0) or initial (its starting value).
     #[arg(long, value_name = "KIND", default_value = "off", value_parser = projection)]
     pub projection: Projection,
+    /// Draw the orbit, projected onto a plane, into an image (`.svg` or `.png`).
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
     #[command(flatten)]
     pub format: Format,
 }

@@ -40,6 +40,18 @@ pub enum CliError {
     /// The requested output language is unknown or not available yet.
     #[error("{0}")]
     Emit(String),
+    /// An output file (an image, a plot) could not be written.
+    #[error("cannot write `{}`: {reason}", path.display())]
+    Output {
+        /// The path given.
+        path: PathBuf,
+        /// What went wrong.
+        reason: String,
+    },
+    /// The metric does not have what the command needs (the right dimension, a symmetry,
+    /// a horizon, a circular orbit in the range searched).
+    #[error("{0}")]
+    Unsuited(String),
 }
 
 impl CliError {

@@ -22,10 +22,14 @@
 mod args;
 pub mod commands;
 pub mod error;
+pub mod horizon;
 pub mod json;
+pub mod plot;
 pub mod progress;
+pub mod render;
 pub mod report;
 pub mod source;
+pub mod survey;
 pub mod tape;
 pub mod tape_metric;
 

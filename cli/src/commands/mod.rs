@@ -5,7 +5,9 @@ pub mod check;
 pub mod demo;
 pub mod emit;
 pub mod eval;
+pub mod render;
 pub mod stats;
+pub mod survey;
 pub mod trace;
 
 use crate::args::Command;
@@ -20,5 +22,7 @@ pub fn run(command: &Command) -> Result<String, CliError> {
         Command::Emit(a) => emit::run(a),
         Command::Stats(a) => stats::run(a),
         Command::Demo(a) => demo::run(a),
+        Command::Render(a) => render::run(a),
+        Command::Survey(a) => survey::run(a),
     }
 }

@@ -1,6 +1,6 @@
 //! `geokern trace FILE --x .. --u .. --lambda L`: integrate one geodesic on the tape.
 
-use std::cell::Cell;
+use std::cell::{Cell, RefCell};
 use std::fmt::Write;
 
 use geokern_runtime::{
@@ -10,6 +10,7 @@ use serde_json::{Map, Value};
 
 use crate::args::TraceArgs;
 use crate::error::CliError;
+use crate::plot::{self, Figure, Ring, Series};
 use crate::progress::{Progress, ProgressEvent};
 use crate::tape_metric::{TapeMetric, TapeSet};
 use crate::{json, report, source, with_dimension};
@@ -72,18 +73,28 @@ pub struct TraceResult {
     pub range: Option<(f64, f64)>,
 }
 
-/// Records the range of one coordinate; an event that never fires.
-struct RangeWatch {
-    index: usize,
+/// Records the range of one coordinate and, if asked, every accepted state; an event that
+/// never fires. The integrator evaluates events once at the start and once at the end of
+/// every accepted step, so the record holds the states the integrator accepted.
+struct Watch {
+    index: Option<usize>,
     low: Cell<f64>,
     high: Cell<f64>,
+    path: Option<RefCell<Vec<PathPoint>>>,
 }
 
-impl<const N: usize> Event<N> for RangeWatch {
-    fn value(&self, _lambda: f64, x: &[f64; N], _u: &[f64; N]) -> f64 {
-        if let Some(&v) = x.get(self.index) {
+impl<const N: usize> Event<N> for Watch {
+    fn value(&self, lambda: f64, x: &[f64; N], u: &[f64; N]) -> f64 {
+        if let Some(&v) = self.index.and_then(|k| x.get(k)) {
             self.low.set(self.low.get().min(v));
             self.high.set(self.high.get().max(v));
+        }
+        if let Some(path) = &self.path {
+            path.borrow_mut().push(PathPoint {
+                lambda,
+                x: x.to_vec(),
+                u: u.to_vec(),
+            });
         }
         1.0
     }
@@ -91,6 +102,17 @@ impl<const N: usize> Event<N> for RangeWatch {
     fn is_terminal(&self) -> bool {
         false
     }
+}
+
+/// One recorded state of a geodesic.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PathPoint {
+    /// The affine parameter.
+    pub lambda: f64,
+    /// The coordinates.
+    pub x: Vec<f64>,
+    /// The velocity dx/dλ.
+    pub u: Vec<f64>,
 }
 
 /// Integrates `request` through the metric on tapes, reporting progress to `progress` as the
@@ -101,8 +123,32 @@ pub fn integrate_tape(
     progress: &Progress,
     slice: (f64, f64),
 ) -> Result<TraceResult, CliError> {
-    with_dimension!(set.dim(), integrate_n(set, request, progress, slice))
-        .unwrap_or_else(|| Err(CliError::usage("a metric has 1 to 16 coordinates")))
+    integrate_any(set, request, progress, slice, false).map(|(result, _)| result)
+}
+
+/// [`integrate_tape`], also returning every accepted state, in order of λ, from the start
+/// to where the integration ended.
+pub fn integrate_tape_path(
+    set: &TapeSet,
+    request: &TraceRequest,
+    progress: &Progress,
+    slice: (f64, f64),
+) -> Result<(TraceResult, Vec<PathPoint>), CliError> {
+    integrate_any(set, request, progress, slice, true)
+}
+
+fn integrate_any(
+    set: &TapeSet,
+    request: &TraceRequest,
+    progress: &Progress,
+    slice: (f64, f64),
+    record: bool,
+) -> Result<(TraceResult, Vec<PathPoint>), CliError> {
+    with_dimension!(
+        set.dim(),
+        integrate_n(set, request, progress, slice, record)
+    )
+    .unwrap_or_else(|| Err(CliError::usage("a metric has 1 to 16 coordinates")))
 }
 
 fn integrate_n<const N: usize>(
@@ -110,7 +156,8 @@ fn integrate_n<const N: usize>(
     request: &TraceRequest,
     progress: &Progress,
     slice: (f64, f64),
-) -> Result<TraceResult, CliError> {
+    record: bool,
+) -> Result<(TraceResult, Vec<PathPoint>), CliError> {
     let dimension = || CliError::usage(format!("vectors must have {N} entries"));
     let metric = TapeMetric::<N>::new(set).ok_or_else(dimension)?;
     let x0: [f64; N] = request.x.as_slice().try_into().map_err(|_| dimension())?;
@@ -128,10 +175,11 @@ fn integrate_n<const N: usize>(
         .collect();
     let mut bar = ProgressEvent::new(progress, request.lambda, slice);
     let start = |k: usize| x0.get(k).copied().unwrap_or(f64::NAN);
-    let mut watch = request.watch.map(|index| RangeWatch {
-        index,
-        low: Cell::new(start(index)),
-        high: Cell::new(start(index)),
+    let mut watch = (request.watch.is_some() || record).then(|| Watch {
+        index: request.watch,
+        low: Cell::new(request.watch.map_or(f64::NAN, start)),
+        high: Cell::new(request.watch.map_or(f64::NAN, start)),
+        path: record.then(|| RefCell::new(Vec::new())),
     });
     let mut events: Vec<&mut dyn Event<N>> = crossings
         .iter_mut()
@@ -168,7 +216,33 @@ fn integrate_n<const N: usize>(
             .cloned()
             .zip(out.drift.invariants().iter().copied()),
     );
-    Ok(TraceResult {
+    let (range, path) = match watch {
+        Some(w) => (
+            request.watch.map(|_| (w.low.get(), w.high.get())),
+            w.path.map(RefCell::into_inner).unwrap_or_default(),
+        ),
+        None => (None, Vec::new()),
+    };
+    // A step that ended past a terminal event was recorded before the event cut it short.
+    let forward = request.lambda >= 0.0;
+    let mut path: Vec<PathPoint> = path
+        .into_iter()
+        .filter(|p| {
+            (if forward {
+                p.lambda < out.lambda
+            } else {
+                p.lambda > out.lambda
+            }) && p.x.iter().chain(&p.u).all(|v| v.is_finite())
+        })
+        .collect();
+    if record {
+        path.push(PathPoint {
+            lambda: out.lambda,
+            x: out.x.to_vec(),
+            u: out.u.to_vec(),
+        });
+    }
+    let result = TraceResult {
         x: out.x.to_vec(),
         u: out.u.to_vec(),
         p: out.p.to_vec(),
@@ -177,8 +251,9 @@ fn integrate_n<const N: usize>(
         stop: out.stop,
         event,
         drift,
-        range: watch.map(|w| (w.low.get(), w.high.get())),
-    })
+        range,
+    };
+    Ok((result, path))
 }
 
 /// Parses `--stop-below` / `--stop-above` values (`COORD=VALUE`).
@@ -239,6 +314,10 @@ pub fn parse_stops(
 
 /// Runs `trace`.
 pub fn run(args: &TraceArgs) -> Result<String, CliError> {
+    let plot_format = match &args.plot {
+        Some(path) => Some(plot::format_of(path)?),
+        None => None,
+    };
     let loaded = source::load_source(&args.source)?;
     let ks = &loaded.kernels;
     let params = source::bind_params(ks, &args.params)?;
@@ -278,8 +357,12 @@ pub fn run(args: &TraceArgs) -> Result<String, CliError> {
         watch: None,
     };
     let progress = Progress::new(args.format.json, &format!("tracing {}", ks.name));
-    let result = integrate_tape(&set, &request, &progress, (0.0, 1.0))?;
+    let (result, path) =
+        integrate_any(&set, &request, &progress, (0.0, 1.0), plot_format.is_some())?;
     progress.finish();
+    if let (Some(file), Some(format)) = (&args.plot, plot_format) {
+        plot::write(&orbit_figure(&set, &path), file, format)?;
+    }
     Ok(if args.format.json {
         json::to_text(&to_json(args.method, &result))
     } else {
@@ -353,4 +436,158 @@ fn to_text(name: &str, method: Method, request: &TraceRequest, r: &TraceResult) 
     );
     let _ = writeln!(out, "  drift    {}", drift_line(r));
     out
+}
+
+/// How an orbit is seen from above.
+#[derive(Clone, Copy, Debug, PartialEq)]
+enum View {
+    /// (t, r, θ, φ)-like: x = r sin θ cos φ, y = r sin θ sin φ.
+    Spherical,
+    /// Two coordinates drawn as they are.
+    Plain(usize, usize),
+}
+
+/// The view for coordinates `coords`: spherical when the last two are named like a polar
+/// angle and an azimuth after a radius, else x and y when the coordinates are (t, x, y, z),
+/// else the first two spatial coordinates (those after a timelike first one).
+fn view(set: &TapeSet, x0: &[f64]) -> View {
+    let c: Vec<String> = set.coords.iter().map(|n| n.to_ascii_lowercase()).collect();
+    let polar = |n: &str| matches!(n, "theta" | "th" | "vartheta");
+    let azimuth = |n: &str| matches!(n, "phi" | "ph" | "varphi");
+    if c.len() == 4 && polar(&c[2]) && azimuth(&c[3]) {
+        return View::Spherical;
+    }
+    if let Some(k) = c.iter().position(|n| n == "x") {
+        if c.get(k + 1).is_some_and(|n| n == "y") {
+            return View::Plain(k, k + 1);
+        }
+    }
+    let g = set.eval(
+        geokern_symbolic::program::KernelKind::Metric,
+        &crate::tape::Inputs {
+            x: x0,
+            ..crate::tape::Inputs::default()
+        },
+    );
+    let first = usize::from(c.len() >= 3 && g.first().is_some_and(|&g00| g00 < 0.0));
+    View::Plain(first, (first + 1).min(c.len().saturating_sub(1)))
+}
+
+/// The cubic Hermite interpolant between two recorded states at fraction `s` of the step
+/// (common practice: x and dx/dλ at both ends fix a cubic).
+fn hermite(a: &PathPoint, b: &PathPoint, s: f64, k: usize) -> f64 {
+    let h = b.lambda - a.lambda;
+    let (s2, s3) = (s * s, s * s * s);
+    (2.0 * s3 - 3.0 * s2 + 1.0) * a.x[k]
+        + (s3 - 2.0 * s2 + s) * h * a.u[k]
+        + (-2.0 * s3 + 3.0 * s2) * b.x[k]
+        + (s3 - s2) * h * b.u[k]
+}
+
+/// The orbit seen from above, with the metric's horizons as circles in the spherical view.
+fn orbit_figure(set: &TapeSet, path: &[PathPoint]) -> Figure {
+    let x0 = path.first().map(|p| p.x.clone()).unwrap_or_default();
+    let view = view(set, &x0);
+    let project = |x: &[f64]| -> (f64, f64) {
+        match view {
+            View::Spherical => {
+                let (r, theta, phi) = (x[1], x[2], x[3]);
+                (r * theta.sin() * phi.cos(), r * theta.sin() * phi.sin())
+            }
+            View::Plain(i, j) => (
+                x.get(i).copied().unwrap_or(f64::NAN),
+                x.get(j).copied().unwrap_or(f64::NAN),
+            ),
+        }
+    };
+    // Eight points a step draw the curve smoothly where steps are long; a long record has
+    // points enough already.
+    let per_step = if path.len() < 20_000 { 8 } else { 1 };
+    let mut points: Vec<(f64, f64)> = Vec::with_capacity(path.len() * per_step + 1);
+    let mut x = vec![0.0; x0.len()];
+    for pair in path.windows(2) {
+        for step in 0..per_step {
+            let s = step as f64 / per_step as f64;
+            for (k, xk) in x.iter_mut().enumerate() {
+                *xk = hermite(&pair[0], &pair[1], s, k);
+            }
+            points.push(project(&x));
+        }
+    }
+    if let Some(last) = path.last() {
+        points.push(project(&last.x));
+    }
+    let start = path.first().map_or((f64::NAN, f64::NAN), |p| project(&p.x));
+    let mut circles = Vec::new();
+    let (title_view, x_label, y_label) = match view {
+        View::Spherical => {
+            let c = &set.coords;
+            let reach = path
+                .iter()
+                .map(|p| p.x[1].abs())
+                .filter(|r| r.is_finite())
+                .fold(0.0, f64::max);
+            if reach > 0.0 {
+                let at = [0.0, 0.0, std::f64::consts::FRAC_PI_2, 0.0];
+                let found = crate::horizon::horizons(set, 1, &at, reach * 1e-4, reach * 2.0);
+                for (k, &r) in found.iter().enumerate() {
+                    circles.push(Ring {
+                        label: format!(
+                            "{} {} = {}",
+                            if k == 0 { "horizon" } else { "inner horizon" },
+                            c[1],
+                            report::number(r, 6)
+                        ),
+                        center: (0.0, 0.0),
+                        radius: r,
+                        color: if k == 0 {
+                            [20, 20, 20]
+                        } else {
+                            [130, 130, 130]
+                        },
+                        filled: k == 0,
+                    });
+                }
+            }
+            let (r, th, ph) = (
+                report::coordinate_label(&c[1]),
+                report::coordinate_label(&c[2]),
+                report::coordinate_label(&c[3]),
+            );
+            (
+                "seen from above".to_string(),
+                format!("{r} sin {th} cos {ph}"),
+                format!("{r} sin {th} sin {ph}"),
+            )
+        }
+        View::Plain(i, j) => {
+            let name = |k: usize| set.coords.get(k).cloned().unwrap_or_default();
+            (
+                format!("in the ({}, {}) plane", name(i), name(j)),
+                name(i),
+                name(j),
+            )
+        }
+    };
+    Figure {
+        title: format!("{}: geodesic {title_view}", set.name),
+        x_label,
+        y_label,
+        series: vec![
+            Series {
+                label: "geodesic".to_string(),
+                points,
+                color: [31, 119, 180],
+                dashed: false,
+            },
+            Series {
+                label: "start".to_string(),
+                points: vec![start],
+                color: [214, 39, 40],
+                dashed: false,
+            },
+        ],
+        circles,
+        equal_aspect: true,
+    }
 }
