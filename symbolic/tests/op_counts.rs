@@ -44,8 +44,10 @@ fn kerr_boyer_lindquist_beats_the_cas_route() {
 fn dense_kerr_schild_beats_the_cas_route() {
     let ks = kernels("kerr_schild.gk");
     let accel = total(&ks, KernelKind::Accel);
-    assert!(accel <= 420, "accel: {accel} ops");
-    assert!(total(&ks, KernelKind::Hamilton) <= 390);
+    // The target: at most 0.3x of the CAS route's 1099.
+    assert!(accel <= 330, "accel: {accel} ops");
+    assert!(total(&ks, KernelKind::Hamilton) <= 300);
+    assert!(total(&ks, KernelKind::Norm) <= 60);
     // The inverse of η + f·l lᵀ by Sherman-Morrison, not the adjugate.
     assert!(total(&ks, KernelKind::InverseMetric) <= 65);
     // Stationary: only t is cyclic.

@@ -13,12 +13,13 @@
 
 use std::collections::HashMap;
 
-use num_traits::One;
+use num_traits::{One, Zero};
 
 use super::dot;
-use crate::expr::{ExprId, Store, Q};
+use crate::expr::{ExprId, Node, Store, Q};
 
-/// p_d = g_dc u^c with common factors pulled out, and its Jacobian.
+/// p_d = g_dc u^c with common factors pulled out (after multiplying out the components, so
+/// that `(1 + f·l_x²)·u^x` shows its factors), and its Jacobian.
 pub(super) struct Momentum {
     /// p_d over velocity symbols.
     pub p: Vec<ExprId>,
@@ -32,7 +33,7 @@ impl Momentum {
         let p: Vec<ExprId> = g
             .iter()
             .map(|row| {
-                let e = dot(s, row, u);
+                let e = expanded_dot(s, row, u);
                 s.collect_common(e)
             })
             .collect();
@@ -83,4 +84,31 @@ impl Momentum {
         let map: HashMap<ExprId, ExprId> = u.iter().copied().zip(dx.iter().copied()).collect();
         over_u.iter().map(|&e| s.substitute(e, &map)).collect()
     }
+}
+
+/// Σ_c m_c u^c with every sum m_c multiplied out, so that the factors inside the components
+/// are visible to [`Store::collect_common`].
+fn expanded_dot(s: &mut Store, m: &[ExprId], u: &[ExprId]) -> ExprId {
+    let mut parts: Vec<(ExprId, Q)> = Vec::new();
+    for (&mc, &uc) in m.iter().zip(u) {
+        if s.is_zero(mc) || s.is_zero(uc) {
+            continue;
+        }
+        match s.node(mc).clone() {
+            Node::Add(c0, ts) => {
+                if !c0.is_zero() {
+                    parts.push((uc, c0));
+                }
+                for (t, k) in ts.iter() {
+                    let p = s.mul(&[*t, uc]);
+                    parts.push((p, k.clone()));
+                }
+            }
+            _ => {
+                let p = s.mul(&[mc, uc]);
+                parts.push((p, Q::one()));
+            }
+        }
+    }
+    s.lincomb(&parts)
 }
