@@ -12,7 +12,7 @@ use std::f64::consts::FRAC_PI_2;
 use std::fmt::Write;
 use std::time::Instant;
 
-use geokern_runtime::{project_time_component, Method, Options};
+use geokern_runtime::{project_time_component, Method, MetricKernels, Options};
 use geokern_symbolic::program::KernelKind;
 use serde_json::{json, Map, Value};
 
@@ -20,8 +20,7 @@ use crate::args::DemoArgs;
 use crate::commands::trace::{self, integrate_tape, Stop, TraceRequest, TraceResult};
 use crate::error::CliError;
 use crate::progress::Progress;
-use crate::tape::Inputs;
-use crate::tape_metric::TapeSet;
+use crate::tape_metric::{TapeMetric, TapeSet};
 use crate::{json, report, source};
 
 /// The scenario's metric file.
@@ -107,17 +106,9 @@ fn outer_horizon() -> f64 {
 /// The full starting velocity of `launch`: u^t solved from g(u,u) = launch.norm, taking the
 /// future-directed root.
 fn initial_velocity(set: &TapeSet, launch: &Launch) -> Result<[f64; 4], CliError> {
-    let g = set.eval(
-        KernelKind::Metric,
-        &Inputs {
-            x: &START,
-            ..Inputs::default()
-        },
-    );
-    let mut form = [[0.0; 4]; 4];
-    for (row, chunk) in form.iter_mut().zip(g.chunks(4)) {
-        row.copy_from_slice(chunk);
-    }
+    let form = TapeMetric::<4>::new(set)
+        .ok_or_else(|| CliError::usage("the demo's metric has four coordinates"))?
+        .metric(&START);
     let [ur, uth, uph] = launch.spatial;
     let mut u = [1.0, ur, uth, uph];
     if !project_time_component(&form, &mut u, launch.norm) {

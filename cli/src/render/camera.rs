@@ -6,11 +6,9 @@
 //! So a photon reaching the right half of the image carries negative angular momentum p_φ
 //! (it comes from the +φ side, moving against +φ).
 
-use geokern_runtime::{pinhole_ray, static_frame};
-use geokern_symbolic::program::KernelKind;
+use geokern_runtime::{pinhole_ray, static_frame, MetricKernels};
 
 use crate::error::CliError;
-use crate::tape::Inputs;
 use crate::tape_metric::{TapeMetric, TapeSet};
 
 /// A static observer's pinhole camera.
@@ -60,17 +58,7 @@ impl Camera {
                 inclination.to_degrees()
             ))
         })?;
-        let g = set.eval(
-            KernelKind::Metric,
-            &Inputs {
-                x: &position,
-                ..Inputs::default()
-            },
-        );
-        let mut metric = [[0.0; 4]; 4];
-        for (row, chunk) in metric.iter_mut().zip(g.chunks(4)) {
-            row.copy_from_slice(chunk);
-        }
+        let metric = metric_view.metric(&position);
         let negated = |v: [f64; 4]| v.map(|c| -c);
         Ok(Camera {
             position,
