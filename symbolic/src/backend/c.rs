@@ -107,6 +107,35 @@ pub(crate) fn array_lengths(io: &KernelIo) -> String {
     format!("{} -> {}", ins.join(", "), outs.join(", "))
 }
 
+/// Every kernel of `ks` as a pointer function, then the batch entry points `batch` makes
+/// (none for plain C): the signatures for the header comment and the definitions, in the
+/// order every C-family backend prints them.
+pub(crate) fn pointer_units(
+    ks: &KernelSet,
+    style: &PointerStyle,
+    batch: impl Fn(&KernelSet, KernelKind) -> Option<(String, String)>,
+) -> (Vec<String>, Vec<String>) {
+    let mut signatures = Vec::new();
+    let mut functions = Vec::new();
+    let kinds = cfamily::kernel_kinds(ks);
+    for &kind in &kinds {
+        let (prototype, text) = pointer_function(ks, kind, style);
+        signatures.push(format!(
+            "{}{prototype};  {}",
+            style.qualifiers,
+            array_lengths(&KernelIo::new(ks, kind))
+        ));
+        functions.push(text);
+    }
+    for &kind in &kinds {
+        if let Some((prototype, text)) = batch(ks, kind) {
+            signatures.push(format!("{prototype};"));
+            functions.push(text);
+        }
+    }
+    (signatures, functions)
+}
+
 /// The include-guard macro of a metric's header (`GEOKERN_KERR_NEWMAN_H`).
 pub(crate) fn guard(ks: &KernelSet, suffix: &str) -> String {
     format!(
@@ -122,16 +151,7 @@ pub fn emit(ks: &KernelSet) -> String {
         qualifiers: "static inline ",
         dialect: &dialect,
     };
-    let mut signatures = Vec::new();
-    let mut functions = Vec::new();
-    for kind in cfamily::kernel_kinds(ks) {
-        let (prototype, text) = pointer_function(ks, kind, &style);
-        signatures.push(format!(
-            "static inline {prototype};  {}",
-            array_lengths(&KernelIo::new(ks, kind))
-        ));
-        functions.push(text);
-    }
+    let (signatures, functions) = pointer_units(ks, &style, |_, _| None);
     let notes = [
         "C99, double precision; needs only <math.h> (link with -lm where the platform asks)."
             .to_string(),

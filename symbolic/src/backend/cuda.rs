@@ -15,7 +15,7 @@
 //! assert!(source.contains("extern \"C\" __global__ void sphere_metric_batch("));
 //! ```
 
-use super::c::{array_lengths, c_dialect, guard, pointer_function, PointerStyle};
+use super::c::{c_dialect, guard, pointer_units, PointerStyle};
 use super::cfamily::{self, KernelIo};
 use crate::kernels::KernelSet;
 use crate::program::{InputArray, KernelKind};
@@ -103,23 +103,7 @@ pub fn emit(ks: &KernelSet) -> String {
         qualifiers: "__device__ inline ",
         dialect: &dialect,
     };
-    let mut signatures = Vec::new();
-    let mut functions = Vec::new();
-    let kinds = cfamily::kernel_kinds(ks);
-    for &kind in &kinds {
-        let (prototype, text) = pointer_function(ks, kind, &style);
-        signatures.push(format!(
-            "__device__ inline {prototype};  {}",
-            array_lengths(&KernelIo::new(ks, kind))
-        ));
-        functions.push(text);
-    }
-    for &kind in &kinds {
-        if let Some((prototype, text)) = batch_function(ks, kind) {
-            signatures.push(format!("{prototype};"));
-            functions.push(text);
-        }
-    }
+    let (signatures, functions) = pointer_units(ks, &style, batch_function);
     let prefix = cfamily::snake_case(&ks.name);
     let notes = [
         "CUDA C++, double precision; device math from the CUDA toolkit, nothing included."

@@ -16,7 +16,7 @@
 //! assert!(source.contains("__kernel void sphere_accel_batch("));
 //! ```
 
-use super::c::{array_lengths, c_dialect, guard, pointer_function, PointerStyle};
+use super::c::{c_dialect, guard, pointer_units, PointerStyle};
 use super::cfamily::{self, KernelIo};
 use super::cuda::batch_args;
 use crate::kernels::KernelSet;
@@ -101,23 +101,7 @@ pub fn emit(ks: &KernelSet) -> String {
         qualifiers: "static inline ",
         dialect: &dialect,
     };
-    let mut signatures = Vec::new();
-    let mut functions = Vec::new();
-    let kinds = cfamily::kernel_kinds(ks);
-    for &kind in &kinds {
-        let (prototype, text) = pointer_function(ks, kind, &style);
-        signatures.push(format!(
-            "static inline {prototype};  {}",
-            array_lengths(&KernelIo::new(ks, kind))
-        ));
-        functions.push(text);
-    }
-    for &kind in &kinds {
-        if let Some((prototype, text)) = batch_function(ks, kind) {
-            signatures.push(format!("{prototype};"));
-            functions.push(text);
-        }
-    }
+    let (signatures, functions) = pointer_units(ks, &style, batch_function);
     let notes = [
         "OpenCL C 1.2, double precision (needs cl_khr_fp64); functions take private pointers."
             .to_string(),
