@@ -34,6 +34,8 @@ pub fn invert(s: &mut Store, g: &[Vec<ExprId>]) -> Result<Vec<Vec<ExprId>>, Inve
     let n = g.len();
     let zero = s.int(0);
     let mut inv = vec![vec![zero; n]; n];
+    let all: Vec<ExprId> = g.iter().flatten().copied().collect();
+    let atoms = super::monomial::atoms(s, &all);
     for block in blocks(s, g) {
         let m: Vec<Vec<ExprId>> = block
             .iter()
@@ -45,6 +47,9 @@ pub fn invert(s: &mut Store, g: &[Vec<ExprId>]) -> Result<Vec<Vec<ExprId>>, Inve
                 let ad = s.mul(&[m[0][0], m[1][1]]);
                 let bc = s.mul(&[m[0][1], m[1][0]]);
                 let det = s.sub(ad, bc);
+                // A determinant that is one product of the metric's pieces (Kerr: −Δ sin²θ)
+                // is cheaper to compute and cancels against the entries it divides.
+                let det = super::monomial::as_monomial(s, det, &atoms).unwrap_or(det);
                 let off = s.neg(m[0][1]);
                 (det, vec![vec![m[1][1], off], vec![off, m[0][0]]])
             }

@@ -10,6 +10,7 @@
 mod curvature;
 mod inverse;
 pub(crate) mod momentum;
+mod monomial;
 mod sample;
 
 pub use curvature::{derive_curvature, zero_status, Curvature, ZeroStatus};
