@@ -35,12 +35,24 @@ pub fn invert(s: &mut Store, g: &[Vec<ExprId>]) -> Result<Vec<Vec<ExprId>>, Inve
     let zero = s.int(0);
     let mut inv = vec![vec![zero; n]; n];
     let all: Vec<ExprId> = g.iter().flatten().copied().collect();
-    let atoms = super::monomial::atoms(s, &all);
+    // The metric's atoms, gathered once and only if a 2×2 block needs them.
+    let mut atoms: Option<Vec<ExprId>> = None;
     for block in blocks(s, g) {
         let m: Vec<Vec<ExprId>> = block
             .iter()
             .map(|&i| block.iter().map(|&j| g[i][j]).collect())
             .collect();
+        if block.len() > 2 {
+            if let Some((den, sub)) = rank_one_update(s, &m) {
+                check_nonsingular(s, den, &block)?;
+                for (bi, &i) in block.iter().enumerate() {
+                    for (bj, &j) in block.iter().enumerate() {
+                        inv[i][j] = sub[bi][bj];
+                    }
+                }
+                continue;
+            }
+        }
         let (det, adj) = match block.len() {
             1 => (m[0][0], vec![vec![s.int(1)]]),
             2 => {
@@ -49,21 +61,10 @@ pub fn invert(s: &mut Store, g: &[Vec<ExprId>]) -> Result<Vec<Vec<ExprId>>, Inve
                 let det = s.sub(ad, bc);
                 // A determinant that is one product of the metric's pieces (Kerr: −Δ sin²θ)
                 // is cheaper to compute and cancels against the entries it divides.
-                let det = super::monomial::as_monomial(s, det, &atoms).unwrap_or(det);
+                let atoms = atoms.get_or_insert_with(|| super::monomial::atoms(s, &all));
+                let det = super::monomial::as_monomial(s, det, atoms).unwrap_or(det);
                 let off = s.neg(m[0][1]);
                 (det, vec![vec![m[1][1], off], vec![off, m[0][0]]])
-            }
-            _ if rank_one_update(s, &m).is_some() => {
-                let Some((den, sub)) = rank_one_update(s, &m) else {
-                    continue;
-                };
-                check_nonsingular(s, den, &block)?;
-                for (bi, &i) in block.iter().enumerate() {
-                    for (bj, &j) in block.iter().enumerate() {
-                        inv[i][j] = sub[bi][bj];
-                    }
-                }
-                continue;
             }
             k if k <= ADJUGATE_LIMIT => adjugate(s, &m),
             _ => {

@@ -174,10 +174,11 @@ impl Lowerer<'_> {
             return self.constant(c);
         }
         match self.instrs[v as usize].clone() {
-            Instr::Mul(a, b) if self.constant_value(a).is_some() => {
-                let c = self.constant_value(a).cloned().unwrap_or_else(Q::one) * k;
-                let c = self.constant(c);
-                return self.emit(Instr::Mul(c, b));
+            Instr::Mul(a, b) => {
+                if let Some(c) = self.constant_value(a).cloned() {
+                    let c = self.constant(c * k);
+                    return self.emit(Instr::Mul(c, b));
+                }
             }
             Instr::Sub(a, b) if *k == -Q::one() => return self.emit(Instr::Sub(b, a)),
             Instr::Neg(a) if *k == -Q::one() => return a,
