@@ -1,10 +1,11 @@
-//! The tape evaluator against the kernels `geokern::include_metric!` compiles from the same
-//! metric files, side by side: the Kerr geodesic acceleration (the kernel an integrator calls
+//! The tape evaluator and the native evaluator against the kernels `geokern::include_metric!`
+//! compiles from the same metric files, side by side: the Kerr geodesic acceleration (the kernel an integrator calls
 //! most) and Christoffel symbols, in Boyer-Lindquist and in Kerr-Schild coordinates. What
 //! matters is the ratio of `tape` to `compiled` within one run, not the times themselves.
 
 use criterion::{black_box, criterion_group, criterion_main, Criterion};
 use geokern::MetricKernels;
+use geokern_cli::native::NativeKernel;
 use geokern_cli::source;
 use geokern_cli::tape::{Inputs, Tape};
 use geokern_cli::tape_metric::{TapeMetric, TapeSet};
@@ -30,6 +31,7 @@ fn tape_against<F, R>(
     let params = [1.0, 0.9];
     let loaded = source::load_bytes(file.0, file.1.as_bytes(), None).expect("example derives");
     let tape = Tape::compile(loaded.kernels.program(kind), 2).expect("tape");
+    let native = NativeKernel::compile(loaded.kernels.program(kind), 2).ok();
     let mut registers = tape.registers(&params);
     let mut group = c.benchmark_group(name);
     group.bench_function("compiled", |b| {
@@ -50,6 +52,24 @@ fn tape_against<F, R>(
             black_box(&out);
         })
     });
+    // Hosts without a code generator measure the tape only.
+    if let Some(native) = native {
+        group.bench_function("native", |b| {
+            let mut out = vec![0.0; native.output_len()];
+            b.iter(|| {
+                native.eval(
+                    black_box(&params),
+                    &Inputs {
+                        x: black_box(&x),
+                        u: black_box(&u),
+                        ..Inputs::default()
+                    },
+                    &mut out,
+                );
+                black_box(&out);
+            })
+        });
+    }
     group.finish();
 }
 

@@ -5,6 +5,8 @@ use std::path::PathBuf;
 use clap::{Args, Parser, Subcommand};
 use geokern_runtime::{Method, Projection};
 
+use crate::tape_metric::Evaluator;
+
 /// Derive a metric's geodesic kernels from a `.gk` file and evaluate them, without a Rust
 /// compiler.
 #[derive(Debug, Parser)]
@@ -52,6 +54,15 @@ pub struct MetricFile {
     pub curvature: bool,
 }
 
+/// Which evaluator runs the kernels.
+#[derive(Debug, Args)]
+pub struct EvaluatorChoice {
+    /// `native` (compiled to machine code when the command starts), `tape` (interpreted),
+    /// or `auto`: native where this machine has a code generator. Both give the same bits.
+    #[arg(long, value_name = "KIND", default_value = "auto", value_parser = evaluator)]
+    pub evaluator: Evaluator,
+}
+
 /// Output format.
 #[derive(Debug, Args)]
 pub struct Format {
@@ -96,6 +107,8 @@ pub struct EvalArgs {
     /// A covariant momentum: adds Hamilton's equations (dx/dλ, dp/dλ).
     #[arg(long, value_name = "P0,P1,..", allow_hyphen_values = true)]
     pub p: Option<String>,
+    #[command(flatten)]
+    pub evaluator: EvaluatorChoice,
     #[command(flatten)]
     pub format: Format,
 }
@@ -148,6 +161,8 @@ pub struct TraceArgs {
     #[arg(long, value_name = "FILE")]
     pub plot: Option<PathBuf>,
     #[command(flatten)]
+    pub evaluator: EvaluatorChoice,
+    #[command(flatten)]
     pub format: Format,
 }
 
@@ -170,6 +185,8 @@ pub struct DemoArgs {
     #[arg(long)]
     pub show_metric: bool,
     #[command(flatten)]
+    pub evaluator: EvaluatorChoice,
+    #[command(flatten)]
     pub format: Format,
 }
 
@@ -182,6 +199,16 @@ fn method(text: &str) -> Result<Method, String> {
         let names: Vec<&str> = Method::ALL.iter().map(|m| m.name()).collect();
         format!(
             "unknown method `{text}`; choose one of {}",
+            names.join(", ")
+        )
+    })
+}
+
+fn evaluator(text: &str) -> Result<Evaluator, String> {
+    Evaluator::from_name(text).ok_or_else(|| {
+        let names: Vec<&str> = Evaluator::NAMES.iter().map(|(n, _)| *n).collect();
+        format!(
+            "unknown evaluator `{text}`; choose one of {}",
             names.join(", ")
         )
     })

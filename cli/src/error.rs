@@ -37,6 +37,10 @@ pub enum CliError {
     /// A kernel program could not be put on a tape (an engine bug, not a user error).
     #[error("internal error: {0}")]
     Tape(#[from] crate::tape::TapeError),
+    /// A kernel program could not be compiled to machine code (no code generator for this
+    /// machine, or a code generator failure).
+    #[error("{0}")]
+    Native(#[from] crate::native::NativeError),
     /// The requested output language is unknown or not available yet.
     #[error("{0}")]
     Emit(String),

@@ -24,6 +24,7 @@ pub mod commands;
 pub mod error;
 pub mod horizon;
 pub mod json;
+pub mod native;
 pub mod plot;
 pub mod progress;
 pub mod render;

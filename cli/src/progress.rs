@@ -63,7 +63,7 @@ impl Progress {
         self.calls.set(calls);
         let mut bar = self.bar.borrow_mut();
         if bar.is_none() {
-            if calls % 64 != 0 || self.started.elapsed() < DELAY {
+            if !calls.is_multiple_of(64) || self.started.elapsed() < DELAY {
                 return;
             }
             // Built hidden and shown once complete, so its first frame is already right.

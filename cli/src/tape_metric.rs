@@ -1,10 +1,11 @@
 //! A metric read at run time, driven through the runtime's [`MetricKernels`] trait.
 //!
-//! [`TapeSet`] holds one [`Tape`] per kernel of a metric, with its parameter values;
+//! [`TapeSet`] holds one [`Tape`] per kernel of a metric, with its parameter values, and,
+//! when asked for, the same kernels compiled to machine code ([`NativeKernel`]);
 //! [`TapeMetric`] views it at a dimension fixed at compile time, so the runtime's integrators,
 //! events and monitors drive it exactly as they drive a struct made by `geokern::metric!`.
 //! The [`with_dimension!`](crate::with_dimension) macro turns the dimension known at run time
-//! into that constant.
+//! into that constant. Both evaluators give the same bits, so the choice changes speed only.
 
 use std::cell::RefCell;
 
@@ -12,9 +13,41 @@ use geokern_runtime::MetricKernels;
 use geokern_symbolic::kernels::KernelSet;
 use geokern_symbolic::program::KernelKind;
 
+use crate::error::CliError;
+use crate::native::{NativeError, NativeKernel};
 use crate::tape::{Inputs, Registers, Tape, TapeError};
 
-/// Every kernel of one metric on tapes, with the names and parameter values they need.
+/// Which evaluator runs a metric's kernels.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum Evaluator {
+    /// Native code where this machine has a code generator, the tape elsewhere.
+    #[default]
+    Auto,
+    /// Native code, or an error on a machine without a code generator.
+    Native,
+    /// The tape interpreter: nothing to compile, slower per call.
+    Tape,
+}
+
+impl Evaluator {
+    /// Every choice, by its name on the command line.
+    pub const NAMES: [(&'static str, Evaluator); 3] = [
+        ("auto", Evaluator::Auto),
+        ("native", Evaluator::Native),
+        ("tape", Evaluator::Tape),
+    ];
+
+    /// The choice named `name` (as on the command line).
+    pub fn from_name(name: &str) -> Option<Evaluator> {
+        Self::NAMES
+            .iter()
+            .find(|(n, _)| n.eq_ignore_ascii_case(name))
+            .map(|&(_, e)| e)
+    }
+}
+
+/// Every kernel of one metric on tapes (and natively compiled, when chosen), with the names
+/// and parameter values they need.
 #[derive(Clone, Debug)]
 pub struct TapeSet {
     /// The metric's name.
@@ -30,10 +63,13 @@ pub struct TapeSet {
     /// Parameter values in declared order.
     pub params: Vec<f64>,
     tapes: Vec<Tape>,
+    /// The kernels as machine code, in the order of `tapes`, when the native evaluator runs.
+    native: Option<Vec<NativeKernel>>,
 }
 
 impl TapeSet {
-    /// Compiles every kernel of `kernels`, with parameter values `params` (declared order).
+    /// Compiles every kernel of `kernels` to tapes, with parameter values `params` (declared
+    /// order).
     pub fn new(kernels: &KernelSet, params: &[f64]) -> Result<TapeSet, TapeError> {
         let tapes = KernelKind::ALL
             .iter()
@@ -47,7 +83,41 @@ impl TapeSet {
             param_names: kernels.params.clone(),
             params: params.to_vec(),
             tapes,
+            native: None,
         })
+    }
+
+    /// [`new`](Self::new), with the kernels also compiled to machine code when `evaluator`
+    /// asks for it ([`Evaluator::Auto`] falls back to the tape where this machine has no
+    /// code generator).
+    pub fn with_evaluator(
+        kernels: &KernelSet,
+        params: &[f64],
+        evaluator: Evaluator,
+    ) -> Result<TapeSet, CliError> {
+        let mut set = TapeSet::new(kernels, params)?;
+        if evaluator == Evaluator::Tape {
+            return Ok(set);
+        }
+        let native = KernelKind::ALL
+            .iter()
+            .map(|&k| NativeKernel::compile(kernels.program(k), kernels.params.len()))
+            .collect::<Result<Vec<_>, _>>();
+        match (native, evaluator) {
+            (Ok(native), _) => set.native = Some(native),
+            (Err(NativeError::Host(_)), Evaluator::Auto) => {}
+            (Err(e), _) => return Err(e.into()),
+        }
+        Ok(set)
+    }
+
+    /// The evaluator that runs this set's kernels: `"native"` or `"tape"`.
+    pub fn evaluator_name(&self) -> &'static str {
+        if self.native.is_some() {
+            "native"
+        } else {
+            "tape"
+        }
     }
 
     /// The dimension of the metric.
@@ -55,42 +125,68 @@ impl TapeSet {
         self.coords.len()
     }
 
+    fn position(kind: KernelKind) -> usize {
+        // Tapes and native kernels are built from KernelKind::ALL, so the position exists.
+        KernelKind::ALL.iter().position(|k| *k == kind).unwrap_or(0)
+    }
+
     /// The tape of one kernel.
     pub fn tape(&self, kind: KernelKind) -> &Tape {
-        // `tapes` is built from KernelKind::ALL, so the position always exists.
-        &self.tapes[KernelKind::ALL.iter().position(|k| *k == kind).unwrap_or(0)]
+        &self.tapes[Self::position(kind)]
+    }
+
+    /// The machine code of one kernel, when the native evaluator runs.
+    pub fn native(&self, kind: KernelKind) -> Option<&NativeKernel> {
+        self.native.as_ref().map(|n| &n[Self::position(kind)])
     }
 
     /// Evaluates one kernel into a new vector (convenient, allocating: for one-off values;
     /// [`TapeMetric`] is the allocation-free path).
     pub fn eval(&self, kind: KernelKind, inputs: &Inputs<'_>) -> Vec<f64> {
         let tape = self.tape(kind);
-        let mut registers = tape.registers(&self.params);
         let mut out = vec![0.0; tape.output_len()];
-        tape.eval(&mut registers, inputs, &mut out);
+        match self.native(kind) {
+            Some(native) => native.eval(&self.params, inputs, &mut out),
+            None => {
+                let mut registers = tape.registers(&self.params);
+                tape.eval(&mut registers, inputs, &mut out);
+            }
+        }
         out
     }
 }
 
-/// One tape with its register file, borrowed mutably for each evaluation.
+/// One kernel ready to run: a tape with its register file (borrowed mutably per call), or
+/// native code with the parameter values.
 #[derive(Debug)]
-struct Bound<'a> {
-    tape: &'a Tape,
-    registers: RefCell<Registers>,
+enum Bound<'a> {
+    Tape {
+        tape: &'a Tape,
+        registers: RefCell<Registers>,
+    },
+    Native {
+        kernel: &'a NativeKernel,
+        params: &'a [f64],
+    },
 }
 
 impl Bound<'_> {
     fn eval(&self, inputs: &Inputs<'_>, out: &mut [f64]) {
-        // Kernels never call each other, so the borrow cannot be held twice.
-        let mut registers = self.registers.borrow_mut();
-        self.tape.eval(&mut registers, inputs, out);
+        match self {
+            Bound::Tape { tape, registers } => {
+                // Kernels never call each other, so the borrow cannot be held twice.
+                let mut registers = registers.borrow_mut();
+                tape.eval(&mut registers, inputs, out);
+            }
+            Bound::Native { kernel, params } => kernel.eval(params, inputs, out),
+        }
     }
 }
 
 /// A [`TapeSet`] at dimension `N`, implementing [`MetricKernels<f64, N>`].
 ///
-/// Holds one register file per kernel, so no evaluation allocates. Not `Sync`: give each
-/// thread its own view of the shared `TapeSet`.
+/// Holds one register file per tape kernel, so no evaluation allocates. Not `Sync`: give
+/// each thread its own view of the shared `TapeSet`.
 #[derive(Debug)]
 pub struct TapeMetric<'a, const N: usize> {
     coords: Vec<&'a str>,
@@ -107,11 +203,17 @@ impl<'a, const N: usize> TapeMetric<'a, N> {
         }
         let kernels = KernelKind::ALL
             .iter()
-            .map(|&k| {
-                let tape = set.tape(k);
-                Bound {
-                    tape,
-                    registers: RefCell::new(tape.registers(&set.params)),
+            .map(|&k| match set.native(k) {
+                Some(kernel) => Bound::Native {
+                    kernel,
+                    params: &set.params,
+                },
+                None => {
+                    let tape = set.tape(k);
+                    Bound::Tape {
+                        tape,
+                        registers: RefCell::new(tape.registers(&set.params)),
+                    }
                 }
             })
             .collect();
@@ -124,7 +226,7 @@ impl<'a, const N: usize> TapeMetric<'a, N> {
     }
 
     fn kernel(&self, kind: KernelKind) -> &Bound<'a> {
-        &self.kernels[KernelKind::ALL.iter().position(|k| *k == kind).unwrap_or(0)]
+        &self.kernels[TapeSet::position(kind)]
     }
 }
 
@@ -282,6 +384,54 @@ macro_rules! with_dimension {
 mod tests {
     use super::*;
     use crate::source;
+
+    /// A view of natively compiled kernels returns, bit for bit, what the tape view does.
+    #[test]
+    fn native_and_tape_views_agree() {
+        let text = "struct S { coords: [t, r, phi], params: [k],
+            g[t, t] = -(1.0 - k / r); g[r, r] = 1.0 / (1.0 - k / r); g[phi, phi] = r.powi(2);
+            g[t, phi] = 0.1 * r * phi.sin(); }";
+        let loaded = source::load_bytes("s.gk", text.as_bytes(), None).expect("derives");
+        let tape =
+            TapeSet::with_evaluator(&loaded.kernels, &[0.5], Evaluator::Tape).expect("tapes");
+        let native = TapeSet::with_evaluator(&loaded.kernels, &[0.5], Evaluator::Native)
+            .expect("this machine has a code generator");
+        assert_eq!(tape.evaluator_name(), "tape");
+        assert_eq!(native.evaluator_name(), "native");
+        let (a, b) = (
+            TapeMetric::<3>::new(&tape).expect("three"),
+            TapeMetric::<3>::new(&native).expect("three"),
+        );
+        let (x, u) = ([0.0, 3.0, 0.2], [1.3, 0.1, 0.05]);
+        let bits = |v: &[f64]| v.iter().map(|f| f.to_bits()).collect::<Vec<_>>();
+        assert_eq!(
+            bits(a.christoffel(&x).as_flattened().as_flattened()),
+            bits(b.christoffel(&x).as_flattened().as_flattened())
+        );
+        assert_eq!(
+            bits(&a.geodesic_accel(&x, &u)),
+            bits(&b.geodesic_accel(&x, &u))
+        );
+        assert_eq!(a.norm(&x, &u).to_bits(), b.norm(&x, &u).to_bits());
+        assert_eq!(
+            bits(&tape.eval(
+                KernelKind::InverseMetric,
+                &Inputs {
+                    x: &x,
+                    ..Inputs::default()
+                }
+            )),
+            bits(&native.eval(
+                KernelKind::InverseMetric,
+                &Inputs {
+                    x: &x,
+                    ..Inputs::default()
+                }
+            ))
+        );
+        assert_eq!(Evaluator::from_name("NATIVE"), Some(Evaluator::Native));
+        assert_eq!(Evaluator::from_name("jit"), None);
+    }
 
     /// The trait methods return the flat kernel outputs in the documented index order.
     #[test]

@@ -206,6 +206,53 @@ fn trace_keeps_a_circular_orbit_with_every_method() {
     }
 }
 
+/// The native evaluator and the tape round alike, so a whole integration (hundreds of
+/// adaptive steps, each step size depending on the last error estimate) ends on the same
+/// bits whichever runs the kernels.
+#[test]
+fn trace_is_the_same_with_either_evaluator() {
+    let run = |evaluator: &str| {
+        let v = geokern(&[
+            "trace",
+            "examples/metrics/kerr_bl.gk",
+            "--param",
+            "m=1",
+            "--param",
+            "a=0.9",
+            "--x",
+            "0,9,1.3,0",
+            "--u",
+            "1.1,0.02,0.01,0.035",
+            "--lambda",
+            "500",
+            "--evaluator",
+            evaluator,
+            "--json",
+        ])
+        .json();
+        assert_eq!(v["stop"], "end", "{evaluator}");
+        v
+    };
+    let (tape, native, auto) = (run("tape"), run("native"), run("auto"));
+    assert_eq!(tape["evaluator"], "tape");
+    assert_eq!(native["evaluator"], "native");
+    assert_eq!(
+        auto["evaluator"], "native",
+        "this machine has a code generator"
+    );
+    for key in ["x", "u", "lambda", "steps", "rejected", "drift"] {
+        assert_eq!(tape[key], native[key], "{key}");
+    }
+    assert!(tape["steps"].as_u64().expect("steps") > 50);
+    let bad = geokern(&["demo", "--evaluator", "jit"]);
+    assert_eq!(bad.code, Some(2));
+    assert!(
+        bad.stderr.contains("choose one of auto, native, tape"),
+        "{}",
+        bad.stderr
+    );
+}
+
 #[test]
 fn trace_stops_where_asked() {
     let v = geokern(&[

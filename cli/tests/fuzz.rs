@@ -1,9 +1,12 @@
 //! Arbitrary input never crashes the reader: any bytes, and example files mutated at random,
 //! either derive or fail with clean errors (`FILE:LINE:COL: message` lines inside the text,
-//! or one line for text that is not UTF-8).
+//! or one line for text that is not UTF-8). Mutants that still derive are odd programs for
+//! the evaluators: native code and the tape must agree on them bit for bit.
 
 mod common;
 
+use geokern_cli::native::NativeKernel;
+use geokern_cli::tape::{Inputs, Tape};
 use geokern_cli::{source, CliError};
 use proptest::prelude::*;
 
@@ -95,6 +98,36 @@ fn assert_clean(name: &str, bytes: &[u8], outcome: Result<source::Loaded, CliErr
     }
 }
 
+/// Every kernel of `loaded`, natively and on the tape, at one point: the same bits (any NaN
+/// counts as one NaN).
+fn assert_evaluators_agree(loaded: &source::Loaded) {
+    let ks = &loaded.kernels;
+    let n = ks.coords.len();
+    let params: Vec<f64> = (0..ks.params.len()).map(|k| 0.7 + 0.3 * k as f64).collect();
+    let x: Vec<f64> = (0..n).map(|k| 1.3 + 0.4 * k as f64).collect();
+    let u: Vec<f64> = (0..n).map(|k| 0.2 - 0.15 * k as f64).collect();
+    let inputs = Inputs {
+        x: &x,
+        u: &u,
+        p: &u,
+        v: &x,
+    };
+    let bits = |v: &[f64]| {
+        v.iter()
+            .map(|f| if f.is_nan() { u64::MAX } else { f.to_bits() })
+            .collect::<Vec<_>>()
+    };
+    for program in &ks.programs {
+        let tape = Tape::compile(program, params.len()).expect("engine programs go on a tape");
+        let native = NativeKernel::compile(program, params.len()).expect("and compile natively");
+        let mut registers = tape.registers(&params);
+        let (mut a, mut b) = (vec![0.0; tape.output_len()], vec![0.0; native.output_len()]);
+        tape.eval(&mut registers, &inputs, &mut a);
+        native.eval(&params, &inputs, &mut b);
+        assert_eq!(bits(&a), bits(&b), "{:?}", program.kind);
+    }
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 256, ..ProptestConfig::default() })]
 
@@ -132,8 +165,10 @@ proptest! {
             }
             text.replace_range(cut..end, PIECES[piece.index(PIECES.len())]);
         }
-        let outcome = source::load_bytes("mutant.gk", text.as_bytes(), None);
-        assert_clean("mutant.gk", text.as_bytes(), outcome);
+        match source::load_bytes("mutant.gk", text.as_bytes(), None) {
+            Ok(loaded) => assert_evaluators_agree(&loaded),
+            outcome => assert_clean("mutant.gk", text.as_bytes(), outcome),
+        }
     }
 }
 

@@ -228,6 +228,10 @@ fn json_has_the_documented_shape() {
     assert_eq!(v["radius"], Value::Null);
     assert_eq!(v["search"]["coordinate"], "r");
     assert!(number(&v["ns_per_accel"]) > 0.0);
+    assert!(
+        number(&v["ns_per_accel_native"]) > 0.0,
+        "this machine has a code generator"
+    );
     for kernel in ["accel", "christoffel", "hamilton", "equatorial_derivatives"] {
         let ops = &v["ops"][kernel];
         assert_eq!(

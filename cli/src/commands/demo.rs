@@ -17,7 +17,7 @@ use geokern_symbolic::program::KernelKind;
 use serde_json::{json, Map, Value};
 
 use crate::args::DemoArgs;
-use crate::commands::trace::{self, integrate_tape, Stop, TraceRequest, TraceResult};
+use crate::commands::trace::{self, integrate, Stop, TraceRequest, TraceResult};
 use crate::error::CliError;
 use crate::progress::Progress;
 use crate::tape_metric::{TapeMetric, TapeSet};
@@ -134,7 +134,9 @@ pub fn run(args: &DemoArgs) -> Result<String, CliError> {
     let ks = &loaded.kernels;
     let given: Vec<String> = PARAMS.iter().map(|(n, v)| format!("{n}={v}")).collect();
     let params = source::bind_params(ks, &given)?;
-    let set = TapeSet::new(ks, &params)?;
+    let started = Instant::now();
+    let set = TapeSet::with_evaluator(ks, &params, args.evaluator.evaluator)?;
+    let preparation_time = started.elapsed();
     let horizon = outer_horizon();
     let r_index = 1;
     let stops = vec![
@@ -169,7 +171,7 @@ pub fn run(args: &DemoArgs) -> Result<String, CliError> {
             watch: Some(r_index),
         };
         let slice = (k as f64 / plan.len() as f64, 1.0 / plan.len() as f64);
-        let result = integrate_tape(&set, &request, &progress, slice)?;
+        let result = integrate(&set, &request, &progress, slice)?;
         runs.push(Run { launch, result });
     }
     let integration_time = started.elapsed();
@@ -180,6 +182,8 @@ pub fn run(args: &DemoArgs) -> Result<String, CliError> {
         horizon,
         runs: &runs,
         integration_time,
+        evaluator: set.evaluator_name(),
+        preparation_time,
     };
     Ok(if args.format.json {
         json::to_text(&summary.to_json())
@@ -194,6 +198,10 @@ struct Summary<'a> {
     horizon: f64,
     runs: &'a [Run<'a>],
     integration_time: std::time::Duration,
+    /// `"native"` or `"tape"`.
+    evaluator: &'static str,
+    /// Putting every kernel on tapes (and compiling it to machine code, when native).
+    preparation_time: std::time::Duration,
 }
 
 const KERNELS: [KernelKind; 4] = [
@@ -248,6 +256,8 @@ impl Summary<'_> {
             "ops": ops,
             "derivation_ms": self.loaded.derivation_time.as_secs_f64() * 1e3,
             "integration_ms": self.integration_time.as_secs_f64() * 1e3,
+            "evaluator": self.evaluator,
+            "preparation_ms": self.preparation_time.as_secs_f64() * 1e3,
             "horizon": self.horizon,
             "geodesics": geodesics,
         })
@@ -290,9 +300,17 @@ impl Summary<'_> {
         let _ = writeln!(out, "  op counts   {}", ops.join(", "));
         let _ = writeln!(
             out,
-            "  geodesics   from r = {}, θ = π/2 - 0.05, evaluated on the tape ({} in all)",
+            "  geodesics   from r = {}, θ = π/2 - 0.05, integrated in {} with {}",
             report::number(START[1], 6),
-            report::duration(self.integration_time)
+            report::duration(self.integration_time),
+            if self.evaluator == "native" {
+                format!(
+                    "native kernels (compiled in {})",
+                    report::duration(self.preparation_time)
+                )
+            } else {
+                "kernels on the tape".to_string()
+            },
         );
         let rows: Vec<Vec<String>> = self
             .runs

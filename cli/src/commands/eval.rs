@@ -51,7 +51,7 @@ pub fn run(args: &EvalArgs) -> Result<String, CliError> {
         .as_deref()
         .map(|p| source::parse_vector("--p", p, &ks.coords))
         .transpose()?;
-    let set = TapeSet::new(ks, &params)?;
+    let set = TapeSet::with_evaluator(ks, &params, args.evaluator.evaluator)?;
     let at = Inputs {
         x: &x,
         ..Inputs::default()

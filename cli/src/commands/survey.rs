@@ -9,6 +9,7 @@ use geokern_symbolic::program::KernelKind;
 use serde_json::{Map, Value};
 
 use crate::error::CliError;
+use crate::native::NativeKernel;
 use crate::plot::{self, Figure, Series};
 use crate::progress::Progress;
 use crate::survey::{analyse, Analysis, Equatorial, PerSense, Search, Sense};
@@ -186,7 +187,16 @@ pub fn run(args: &SurveyArgs) -> Result<String, CliError> {
     progress.finish();
     let mut timing_params = fixed.clone();
     timing_params[vary.index] = vary.values[0];
-    let ns_per_accel = time_accel(&set, &timing_params, radius.unwrap_or(10.0));
+    let r = radius.unwrap_or(10.0);
+    let ns_per_accel = {
+        let tape = set.tape(KernelKind::Accel);
+        let mut registers = tape.registers(&timing_params);
+        time_accel(r, |inputs, out| tape.eval(&mut registers, inputs, out))
+    };
+    // Where this machine has a code generator, the same kernel as native code.
+    let ns_per_accel_native = NativeKernel::compile(ks.program(KernelKind::Accel), ks.params.len())
+        .ok()
+        .map(|native| time_accel(r, |inputs, out| native.eval(&timing_params, inputs, out)));
     let survey = Survey {
         file: name,
         equatorial: &equatorial,
@@ -196,6 +206,7 @@ pub fn run(args: &SurveyArgs) -> Result<String, CliError> {
         search,
         rows,
         ns_per_accel,
+        ns_per_accel_native,
     };
     if let (Some(path), Some(format)) = (&args.plot, plot_format) {
         plot::write(&survey.figure(), path, format)?;
@@ -207,12 +218,10 @@ pub fn run(args: &SurveyArgs) -> Result<String, CliError> {
     })
 }
 
-/// Times a batch of geodesic-acceleration evaluations on the tape, in ns per call, near
+/// Times a batch of geodesic-acceleration evaluations by `accel`, in ns per call, near
 /// radius `r`: at least 2000 calls and 20 ms, so that the clock's resolution does not show.
-fn time_accel(set: &TapeSet, params: &[f64], r: f64) -> f64 {
-    let tape = set.tape(KernelKind::Accel);
-    let mut registers = tape.registers(params);
-    let mut out = vec![0.0; tape.output_len()];
+fn time_accel(r: f64, mut accel: impl FnMut(&Inputs<'_>, &mut [f64])) -> f64 {
+    let mut out = vec![0.0; 16];
     let u = [1.1, 0.01, 0.002, 0.03];
     let started = Instant::now();
     let mut calls = 0u64;
@@ -225,7 +234,7 @@ fn time_accel(set: &TapeSet, params: &[f64], r: f64) -> f64 {
                 u: &u,
                 ..Inputs::default()
             };
-            tape.eval(&mut registers, std::hint::black_box(&inputs), &mut out);
+            accel(std::hint::black_box(&inputs), &mut out);
             sink += out[0];
         }
         calls += 100;
@@ -244,6 +253,7 @@ struct Survey<'a> {
     search: Search,
     rows: Vec<Analysis>,
     ns_per_accel: f64,
+    ns_per_accel_native: Option<f64>,
 }
 
 fn per_sense(values: PerSense<Option<f64>>) -> Value {
@@ -343,6 +353,10 @@ impl Survey<'_> {
         );
         root.insert("ops".into(), Value::Object(ops));
         root.insert("ns_per_accel".into(), json::number(self.ns_per_accel));
+        root.insert(
+            "ns_per_accel_native".into(),
+            self.ns_per_accel_native.map_or(Value::Null, json::number),
+        );
         Value::Object(root)
     }
 
@@ -434,8 +448,12 @@ impl Survey<'_> {
         );
         let _ = writeln!(
             out,
-            "  accel on the tape: {} ns per call",
-            report::number(self.ns_per_accel, 3)
+            "  accel on the tape: {} ns per call{}",
+            report::number(self.ns_per_accel, 3),
+            self.ns_per_accel_native.map_or(String::new(), |ns| format!(
+                "; as native code: {} ns",
+                report::number(ns, 3)
+            ))
         );
         out
     }

@@ -117,7 +117,7 @@ pub struct PathPoint {
 
 /// Integrates `request` through the metric on tapes, reporting progress to `progress` as the
 /// part `slice = (offset, weight)` of a whole run (`(0.0, 1.0)` for a run of its own).
-pub fn integrate_tape(
+pub fn integrate(
     set: &TapeSet,
     request: &TraceRequest,
     progress: &Progress,
@@ -126,9 +126,9 @@ pub fn integrate_tape(
     integrate_any(set, request, progress, slice, false).map(|(result, _)| result)
 }
 
-/// [`integrate_tape`], also returning every accepted state, in order of λ, from the start
+/// [`integrate`], also returning every accepted state, in order of λ, from the start
 /// to where the integration ended.
-pub fn integrate_tape_path(
+pub fn integrate_path(
     set: &TapeSet,
     request: &TraceRequest,
     progress: &Progress,
@@ -347,7 +347,7 @@ pub fn run(args: &TraceArgs) -> Result<String, CliError> {
     } else {
         options.fixed_step = args.step;
     }
-    let set = TapeSet::new(ks, &params)?;
+    let set = TapeSet::with_evaluator(ks, &params, args.evaluator.evaluator)?;
     let request = TraceRequest {
         x,
         u,
@@ -364,7 +364,11 @@ pub fn run(args: &TraceArgs) -> Result<String, CliError> {
         plot::write(&orbit_figure(&set, &path), file, format)?;
     }
     Ok(if args.format.json {
-        json::to_text(&to_json(args.method, &result))
+        let mut value = to_json(args.method, &result);
+        if let Value::Object(m) = &mut value {
+            m.insert("evaluator".into(), set.evaluator_name().into());
+        }
+        json::to_text(&value)
     } else {
         to_text(&ks.name, args.method, &request, &result)
     })

@@ -46,20 +46,8 @@ pub enum TapeError {
 impl Tape {
     /// Compiles `program`, for a metric with `param_count` parameters.
     pub fn compile(program: &KernelProgram, param_count: usize) -> Result<Tape, TapeError> {
+        check_program(program, param_count)?;
         let count = program.instrs.len();
-        if count > MAX_REGISTERS - RESERVED {
-            return Err(TapeError::TooLarge { count });
-        }
-        for (index, &value) in program.outputs.iter().enumerate() {
-            if value as usize >= count {
-                return Err(TapeError::BadOutput { index, value });
-            }
-        }
-        for (at, ins) in program.instrs.iter().enumerate() {
-            if let Some(operand) = operands(ins).find(|&o| o as usize >= at) {
-                return Err(TapeError::ForwardReference { at, operand });
-            }
-        }
         // From here on every value fits in 16 bits and every operand precedes its user
         // (both checked just above).
         let reg = |v: Val| v as Reg;
@@ -88,12 +76,6 @@ impl Tape {
             let d = i as Reg;
             let special = match ins {
                 Instr::Input(InputArray::Params, k) => {
-                    if *k as usize >= param_count {
-                        return Err(TapeError::BadParameter {
-                            index: *k,
-                            count: param_count,
-                        });
-                    }
                     presets.push((d, Preset::Parameter(*k as usize)));
                     continue;
                 }
@@ -196,6 +178,35 @@ impl Tape {
             shape: program.shape.clone(),
         })
     }
+}
+
+/// Checks what every evaluator of `program` relies on: at most [`MAX_REGISTERS`] values
+/// (less the reserved constants), every operand defined before its user, every output
+/// defined, every parameter index below `param_count`.
+pub(crate) fn check_program(program: &KernelProgram, param_count: usize) -> Result<(), TapeError> {
+    let count = program.instrs.len();
+    if count > MAX_REGISTERS - RESERVED {
+        return Err(TapeError::TooLarge { count });
+    }
+    for (index, &value) in program.outputs.iter().enumerate() {
+        if value as usize >= count {
+            return Err(TapeError::BadOutput { index, value });
+        }
+    }
+    for (at, ins) in program.instrs.iter().enumerate() {
+        if let Some(operand) = operands(ins).find(|&o| o as usize >= at) {
+            return Err(TapeError::ForwardReference { at, operand });
+        }
+        if let Instr::Input(InputArray::Params, k) = ins {
+            if *k as usize >= param_count {
+                return Err(TapeError::BadParameter {
+                    index: *k,
+                    count: param_count,
+                });
+            }
+        }
+    }
+    Ok(())
 }
 
 /// The values an instruction reads.

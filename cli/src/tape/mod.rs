@@ -60,6 +60,7 @@ use geokern_symbolic::program::{InputArray, KernelKind};
 
 use code::{run, Load, Preset, Reg, Step, Uniform};
 
+pub(crate) use compile::check_program;
 pub use compile::TapeError;
 
 /// Registers a tape addresses: register numbers are 16-bit.
