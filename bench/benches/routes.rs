@@ -11,6 +11,7 @@ use std::time::Duration;
 use criterion::{criterion_group, criterion_main, Criterion, SamplingMode};
 use geokern::f64x4;
 use geokern_bench::{cas, hand, points, DualRoute, FiniteDifferenceRoute, Kerr, KerrSchild, Route};
+use geokern_cli::native::NativeKernel;
 use geokern_cli::tape::{Inputs, Tape};
 use geokern_symbolic::kernels::KernelSet;
 use geokern_symbolic::model::compile;
@@ -51,6 +52,11 @@ macro_rules! metric_benches {
                 Tape::compile(set.program(KernelKind::Accel), n_params).expect("accel tape");
             let chris_tape = Tape::compile(set.program(KernelKind::Christoffel), n_params)
                 .expect("christoffel tape");
+            let accel_native = NativeKernel::compile(set.program(KernelKind::Accel), n_params)
+                .expect("accel compiles natively");
+            let chris_native =
+                NativeKernel::compile(set.program(KernelKind::Christoffel), n_params)
+                    .expect("christoffel compiles natively");
             let mut accel_registers = accel_tape.registers(&points::PARAMS);
             let mut chris_registers = chris_tape.registers(&points::PARAMS);
 
@@ -82,6 +88,18 @@ macro_rules! metric_benches {
                     out
                 })
             });
+            group.bench_function("native", |b| {
+                let mut out = [0.0; 4];
+                b.iter(|| {
+                    let at = Inputs {
+                        x: black_box(&x),
+                        u: black_box(&u),
+                        ..Inputs::default()
+                    };
+                    accel_native.eval(black_box(&points::PARAMS), &at, &mut out);
+                    out
+                })
+            });
             group.finish();
 
             let mut group = c.benchmark_group(concat!($label, "_christoffel"));
@@ -102,6 +120,17 @@ macro_rules! metric_benches {
                         ..Inputs::default()
                     };
                     chris_tape.eval(&mut chris_registers, &at, &mut out);
+                    out
+                })
+            });
+            group.bench_function("native", |b| {
+                let mut out = [0.0; 64];
+                b.iter(|| {
+                    let at = Inputs {
+                        x: black_box(&x),
+                        ..Inputs::default()
+                    };
+                    chris_native.eval(black_box(&points::PARAMS), &at, &mut out);
                     out
                 })
             });

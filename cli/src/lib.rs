@@ -1,8 +1,9 @@
-//! The `geokern` command-line tool: metric files in, kernels evaluated on a tape out.
+//! The `geokern` command-line tool: metric files in, kernels evaluated out.
 //!
 //! The tool reads `.gk` files with the same engine the `metric!` macro uses, derives every
-//! kernel exactly, and evaluates the kernel programs with a compact [`tape`] interpreter, so
-//! no Rust compiler is needed. [`tape_metric::TapeMetric`] implements the runtime's
+//! kernel exactly, and evaluates the kernel programs either as [`native`] code (compiled with
+//! Cranelift when the tool runs) or with a compact [`tape`] interpreter, so no Rust compiler
+//! is needed. [`tape_metric::TapeMetric`] implements the runtime's
 //! `MetricKernels`, so the runtime's integrators drive a metric read at run time exactly as
 //! they drive one generated at compile time.
 //!
