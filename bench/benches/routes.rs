@@ -8,7 +8,8 @@
 use std::hint::black_box;
 use std::time::Duration;
 
-use criterion::{criterion_group, criterion_main, Criterion, SamplingMode};
+use criterion::measurement::WallTime;
+use criterion::{criterion_group, criterion_main, BenchmarkGroup, Criterion, SamplingMode};
 use geokern::f64x4;
 use geokern_bench::{cas, hand, points, DualRoute, FiniteDifferenceRoute, Kerr, KerrSchild, Route};
 use geokern_cli::native::NativeKernel;
@@ -31,6 +32,28 @@ fn lanes(samples: &[([f64; 4], [f64; 4]); 4]) -> ([f64x4; 4], [f64x4; 4]) {
     let x = core::array::from_fn(|i| f64x4::from(samples.map(|(x, _)| x[i])));
     let u = core::array::from_fn(|i| f64x4::from(samples.map(|(_, u)| u[i])));
     (x, u)
+}
+
+/// Times one of the CLI's evaluators, `eval`, at `x` (and `u`, for kernels that read it) as
+/// function `name` of `group`.
+fn evaluator<const K: usize>(
+    group: &mut BenchmarkGroup<'_, WallTime>,
+    name: &str,
+    (x, u): (&[f64; 4], Option<&[f64; 4]>),
+    mut eval: impl FnMut(&Inputs<'_>, &mut [f64; K]),
+) {
+    group.bench_function(name, |b| {
+        let mut out = [0.0; K];
+        b.iter(|| {
+            let at = Inputs {
+                x: black_box(x),
+                u: black_box(u.map_or(&[][..], |u| &u[..])),
+                ..Inputs::default()
+            };
+            eval(&at, &mut out);
+            out
+        })
+    });
 }
 
 /// The benchmarks of one metric: `$label_geodesic_accel/<route>` and
@@ -76,30 +99,18 @@ macro_rules! metric_benches {
             group.bench_function("finite_difference", |b| {
                 b.iter(|| finite.geodesic_accel(black_box(&x), black_box(&u)))
             });
-            group.bench_function("tape", |b| {
-                let mut out = [0.0; 4];
-                b.iter(|| {
-                    let at = Inputs {
-                        x: black_box(&x),
-                        u: black_box(&u),
-                        ..Inputs::default()
-                    };
-                    accel_tape.eval(&mut accel_registers, &at, &mut out);
-                    out
-                })
-            });
-            group.bench_function("native", |b| {
-                let mut out = [0.0; 4];
-                b.iter(|| {
-                    let at = Inputs {
-                        x: black_box(&x),
-                        u: black_box(&u),
-                        ..Inputs::default()
-                    };
-                    accel_native.eval(black_box(&points::PARAMS), &at, &mut out);
-                    out
-                })
-            });
+            evaluator(
+                &mut group,
+                "tape",
+                (&x, Some(&u)),
+                |at, out: &mut [f64; 4]| accel_tape.eval(&mut accel_registers, at, out),
+            );
+            evaluator(
+                &mut group,
+                "native",
+                (&x, Some(&u)),
+                |at, out: &mut [f64; 4]| accel_native.eval(black_box(&points::PARAMS), at, out),
+            );
             group.finish();
 
             let mut group = c.benchmark_group(concat!($label, "_christoffel"));
@@ -112,28 +123,15 @@ macro_rules! metric_benches {
             group.bench_function("finite_difference", |b| {
                 b.iter(|| finite.christoffel(black_box(&x)))
             });
-            group.bench_function("tape", |b| {
-                let mut out = [0.0; 64];
-                b.iter(|| {
-                    let at = Inputs {
-                        x: black_box(&x),
-                        ..Inputs::default()
-                    };
-                    chris_tape.eval(&mut chris_registers, &at, &mut out);
-                    out
-                })
+            evaluator(&mut group, "tape", (&x, None), |at, out: &mut [f64; 64]| {
+                chris_tape.eval(&mut chris_registers, at, out)
             });
-            group.bench_function("native", |b| {
-                let mut out = [0.0; 64];
-                b.iter(|| {
-                    let at = Inputs {
-                        x: black_box(&x),
-                        ..Inputs::default()
-                    };
-                    chris_native.eval(black_box(&points::PARAMS), &at, &mut out);
-                    out
-                })
-            });
+            evaluator(
+                &mut group,
+                "native",
+                (&x, None),
+                |at, out: &mut [f64; 64]| chris_native.eval(black_box(&points::PARAMS), at, out),
+            );
             group.finish();
         }
     };

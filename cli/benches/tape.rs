@@ -3,7 +3,8 @@
 //! most) and Christoffel symbols, in Boyer-Lindquist and in Kerr-Schild coordinates. What
 //! matters is the ratio of `tape` to `compiled` within one run, not the times themselves.
 
-use criterion::{black_box, criterion_group, criterion_main, Criterion};
+use criterion::measurement::WallTime;
+use criterion::{black_box, criterion_group, criterion_main, BenchmarkGroup, Criterion};
 use geokern::MetricKernels;
 use geokern_cli::native::NativeKernel;
 use geokern_cli::source;
@@ -17,7 +18,29 @@ geokern::include_metric!("../examples/metrics/kerr_schild.gk");
 const KERR_BL: &str = include_str!("../../examples/metrics/kerr_bl.gk");
 const KERR_SCHILD: &str = include_str!("../../examples/metrics/kerr_schild.gk");
 
-/// Times `compiled` and the tape of `kind` on one point, as group `name`.
+/// Times one evaluator of the CLI, `eval`, at `(x, u)` as function `name` of `group`.
+fn evaluator(
+    group: &mut BenchmarkGroup<'_, WallTime>,
+    name: &str,
+    output_len: usize,
+    (x, u): ([f64; 4], [f64; 4]),
+    mut eval: impl FnMut(&Inputs<'_>, &mut [f64]),
+) {
+    group.bench_function(name, |b| {
+        let mut out = vec![0.0; output_len];
+        b.iter(|| {
+            let inputs = Inputs {
+                x: black_box(&x),
+                u: black_box(&u),
+                ..Inputs::default()
+            };
+            eval(&inputs, &mut out);
+            black_box(&out);
+        })
+    });
+}
+
+/// Times `compiled`, the tape and the native code of `kind` on one point, as group `name`.
 fn tape_against<F, R>(
     c: &mut Criterion,
     name: &str,
@@ -37,38 +60,22 @@ fn tape_against<F, R>(
     group.bench_function("compiled", |b| {
         b.iter(|| compiled(black_box(&x), black_box(&u)))
     });
-    group.bench_function("tape", |b| {
-        let mut out = vec![0.0; tape.output_len()];
-        b.iter(|| {
-            tape.eval(
-                &mut registers,
-                &Inputs {
-                    x: black_box(&x),
-                    u: black_box(&u),
-                    ..Inputs::default()
-                },
-                &mut out,
-            );
-            black_box(&out);
-        })
-    });
+    evaluator(
+        &mut group,
+        "tape",
+        tape.output_len(),
+        (x, u),
+        |inputs, out| tape.eval(&mut registers, inputs, out),
+    );
     // Hosts without a code generator measure the tape only.
     if let Some(native) = native {
-        group.bench_function("native", |b| {
-            let mut out = vec![0.0; native.output_len()];
-            b.iter(|| {
-                native.eval(
-                    black_box(&params),
-                    &Inputs {
-                        x: black_box(&x),
-                        u: black_box(&u),
-                        ..Inputs::default()
-                    },
-                    &mut out,
-                );
-                black_box(&out);
-            })
-        });
+        evaluator(
+            &mut group,
+            "native",
+            native.output_len(),
+            (x, u),
+            |inputs, out| native.eval(black_box(&params), inputs, out),
+        );
     }
     group.finish();
 }

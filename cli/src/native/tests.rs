@@ -218,35 +218,21 @@ fn clones_share_code_across_threads() {
     let loaded = source::load_bytes("kerr_bl.gk", EXAMPLES[2].1.as_bytes(), None).expect("derives");
     let accel =
         NativeKernel::compile(loaded.kernels.program(KernelKind::Accel), 2).expect("compiles");
-    let want = {
+    let at_one_point = |kernel: &NativeKernel| {
         let mut out = [0.0; 4];
-        accel.eval(
-            &[1.0, 0.9],
-            &Inputs {
-                x: &[0.0, 7.5, 1.2, 0.3],
-                u: &[1.2, 0.05, 0.01, 0.03],
-                ..Inputs::default()
-            },
-            &mut out,
-        );
+        let inputs = Inputs {
+            x: &[0.0, 7.5, 1.2, 0.3],
+            u: &[1.2, 0.05, 0.01, 0.03],
+            ..Inputs::default()
+        };
+        kernel.eval(&[1.0, 0.9], &inputs, &mut out);
         out
     };
+    let want = at_one_point(&accel);
     let handles: Vec<_> = (0..2)
         .map(|_| {
             let mine = accel.clone();
-            std::thread::spawn(move || {
-                let mut out = [0.0; 4];
-                mine.eval(
-                    &[1.0, 0.9],
-                    &Inputs {
-                        x: &[0.0, 7.5, 1.2, 0.3],
-                        u: &[1.2, 0.05, 0.01, 0.03],
-                        ..Inputs::default()
-                    },
-                    &mut out,
-                );
-                out
-            })
+            std::thread::spawn(move || at_one_point(&mine))
         })
         .collect();
     drop(accel);
