@@ -199,6 +199,26 @@ impl Store {
         self.lincomb(&parts)
     }
 
+    /// `a·b` multiplied out over the terms of `b` whenever `b` is a sum and `a` is not (the
+    /// unconditional form of [`mul_distributed`](Self::mul_distributed), for callers that
+    /// pull common factors back out afterwards).
+    pub fn mul_spread(&mut self, a: ExprId, b: ExprId) -> ExprId {
+        let (Node::Add(c, ts), false) =
+            (self.node(b).clone(), matches!(self.node(a), Node::Add(..)))
+        else {
+            return self.mul(&[a, b]);
+        };
+        let mut parts: Vec<(ExprId, Q)> = Vec::with_capacity(ts.len() + 1);
+        if !c.is_zero() {
+            parts.push((a, c));
+        }
+        for (t, k) in ts.iter() {
+            let p = self.mul(&[a, *t]);
+            parts.push((p, k.clone()));
+        }
+        self.lincomb(&parts)
+    }
+
     /// `a` kept whole (see [`Node::Bound`]), unless it is already an atom or a sum of at
     /// most one term (`k·t` or `c + t`), which gains nothing from being kept whole.
     pub fn bind(&mut self, a: ExprId) -> ExprId {

@@ -26,6 +26,9 @@ mod zero;
 
 pub use zero::proves_zero;
 
+mod hash;
+pub(crate) use hash::FastMap;
+
 use std::collections::HashMap;
 
 use num_rational::BigRational;
@@ -236,10 +239,10 @@ impl SymbolSet {
 pub struct Store {
     nodes: Vec<Node>,
     deps: Vec<SymbolSet>,
-    intern: HashMap<Node, ExprId>,
+    intern: FastMap<Node, ExprId>,
     symbols: Vec<Symbol>,
     symbol_ids: HashMap<SymbolKind, ExprId>,
-    diff_cache: HashMap<(ExprId, u32), ExprId>,
+    diff_cache: FastMap<(ExprId, u32), ExprId>,
     division_by_zero: bool,
 }
 

@@ -19,7 +19,7 @@ pub use sample::SamplePoints;
 
 use num_traits::One;
 
-use crate::expr::{ExprId, Store, SymbolKind, Q};
+use crate::expr::{ExprId, Node, Store, SymbolKind, Q};
 
 /// A metric ready for derivation: its components as expressions over coordinate and
 /// parameter symbols of `store`.
@@ -101,7 +101,7 @@ pub struct Derivation {
     pub transport: Vec<ExprId>,
     /// g_ab u^a u^b.
     pub norm: ExprId,
-    /// The same as u^a p_a with the factored momentum (the cheaper one is kept).
+    /// The same as u·p with common factors pulled out (the cheaper one is kept).
     pub norm_by_momentum: ExprId,
     /// (coordinate, p_k = g_kb u^b) for each coordinate the metric does not depend on.
     pub conserved: Vec<(usize, ExprId)>,
@@ -187,7 +187,7 @@ pub fn derive(model: &mut MetricModel) -> Result<Derivation, InverseError> {
             s.scale(q, half.clone())
         })
         .collect();
-    let hamilton_dp_by_momentum = momentum.hamilton_dp(s, &u, &hamilton_dx);
+    let hamilton_dp_by_momentum = momentum.hamilton_dp(s, &xs, &u, &hamilton_dx);
 
     // Parallel transport: w_d = Γ_dbc u^b v^c = ½[(∂_u g · v)_d + (∂_v g · u)_d − u·∂_d g·v].
     let transport = {
@@ -211,7 +211,7 @@ pub fn derive(model: &mut MetricModel) -> Result<Derivation, InverseError> {
 
     let gu = contract(s, &g, &u);
     let norm = dot(s, &u, &gu);
-    let norm_by_momentum = dot(s, &u, &momentum.p);
+    let norm_by_momentum = momentum.norm;
 
     let conserved: Vec<(usize, ExprId)> = (0..n)
         .filter(|&k| {
@@ -269,6 +269,11 @@ fn lowered_accel(s: &mut Store, dg: &[Vec<Vec<ExprId>>], u: &[ExprId]) -> Vec<Ex
 
 /// −g^ad w_d, negating w before raising: −w_d keeps a positive term where w_d had a negative
 /// one, so the sign costs nothing, whereas negating the raised sum costs one op a component.
+///
+/// An entry of g⁻¹ that is a product of the metric's pieces (Kerr's g^rr = Δ/Σ) is multiplied
+/// into every term of w_d and the common factors of the whole row are pulled out again, so
+/// that Δ cancels where w_d divides by it and 1/Σ is applied once to the row, not once per
+/// term; an entry holding a sum (an adjugate's cofactor) keeps the cheaper product.
 fn raise_negated(s: &mut Store, inverse: &[Vec<ExprId>], w: &[ExprId]) -> Vec<ExprId> {
     let minus_w: Vec<ExprId> = w.iter().map(|&e| s.neg(e)).collect();
     inverse
@@ -277,12 +282,27 @@ fn raise_negated(s: &mut Store, inverse: &[Vec<ExprId>], w: &[ExprId]) -> Vec<Ex
             let mut parts = Vec::new();
             for (&m, &x) in row.iter().zip(&minus_w) {
                 if !s.is_zero(m) && !s.is_zero(x) {
-                    parts.push((s.mul_distributed(m, x), Q::one()));
+                    let product = if holds_sum(s, m) {
+                        s.mul_distributed(m, x)
+                    } else {
+                        s.mul_spread(m, x)
+                    };
+                    parts.push((product, Q::one()));
                 }
             }
-            s.lincomb(&parts)
+            let e = s.lincomb(&parts);
+            s.factor_groups(e)
         })
         .collect()
+}
+
+/// Whether `e` is a sum or a product with a sum among its factors.
+fn holds_sum(s: &Store, e: ExprId) -> bool {
+    match s.node(e) {
+        Node::Add(..) => true,
+        Node::Mul(fs) => fs.iter().any(|(b, _)| matches!(s.node(*b), Node::Add(..))),
+        _ => false,
+    }
 }
 
 /// (M·v)_a = Σ_b M_ab v_b, skipping structural zeros.

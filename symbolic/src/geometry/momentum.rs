@@ -7,24 +7,33 @@
 //! components first gives sums that no later pass folds back. Likewise ½ ∂_a (u·g·u) with
 //! u = g⁻¹p for Hamilton's equations.
 //!
-//! Which route is cheaper depends on the metric (for Boyer-Lindquist Kerr, whose p has little
-//! to factor, differentiating the components wins by a few operations), so these are
-//! offered as alternatives and the scheduler keeps the program with fewer operations.
+//! The factored form matters: Boyer-Lindquist Kerr's t-φ block is a diagonal part plus
+//! F·l lᵀ with l = (1, −a sin²θ), and p_t = −u^t + F·L, p_φ = (r² + a²) sin²θ u^φ − a sin²θ F·L
+//! share L = u^t − a sin²θ u^φ once common factors are pulled out by the group that saves the
+//! most ([`Store::factor_groups`]) rather than by the most frequent single base. The
+//! derivatives are factored again, so ∂_r p_t is one product K·L, not a sum of two.
+//!
+//! For Hamilton's equations the norm u·p is itself factored before it is differentiated: the
+//! same L then appears squared (F·L²), and ½ ∂_a (u·g·u) is a few products instead of the
+//! contraction of a whole Jacobian row.
+//!
+//! Which route is cheaper still depends on the metric, so these are offered as alternatives
+//! and the scheduler keeps the program with fewer operations.
 
 use std::collections::HashMap;
 
 use num_traits::{One, Zero};
 
-use super::dot;
 use crate::expr::{ExprId, Node, Store, Q};
 
-/// p_d = g_dc u^c with common factors pulled out (after multiplying out the components, so
-/// that `(1 + f·l_x²)·u^x` shows its factors), and its Jacobian.
+/// The Jacobian of p_d = g_dc u^c, taken after common factors were pulled out of p (with the
+/// components multiplied out first, so that `(1 + f·l_x²)·u^x` shows its factors), and the
+/// factored norm u·p.
 pub(super) struct Momentum {
-    /// p_d over velocity symbols.
-    pub p: Vec<ExprId>,
     /// M[b][d] = ∂_b p_d, u constant.
     pub jacobian: Vec<Vec<ExprId>>,
+    /// u·p = u·g·u with common factors pulled out.
+    pub norm: ExprId,
 }
 
 impl Momentum {
@@ -34,24 +43,43 @@ impl Momentum {
             .iter()
             .map(|row| {
                 let e = expanded_dot(s, row, u);
-                s.collect_common(e)
+                // Two factorings, the cheaper by a rough count: grouping finds the shared
+                // contraction (Kerr's L), the plain pass keeps a factor common to every term
+                // outside (Kerr-Newman's 1/Σ) where grouping would split it.
+                let plain = s.collect_common(e);
+                let spread = s.distribute_single_sums(e);
+                let grouped = s.factor_groups(spread);
+                if s.tree_cost(plain) < s.tree_cost(grouped) {
+                    plain
+                } else {
+                    grouped
+                }
             })
             .collect();
         let jacobian = xs
             .iter()
-            .map(|&xb| p.iter().map(|&pd| s.diff(pd, xb)).collect())
+            .map(|&xb| {
+                p.iter()
+                    .map(|&pd| {
+                        let d = s.diff(pd, xb);
+                        s.factor_groups(d)
+                    })
+                    .collect()
+            })
             .collect();
-        Momentum { p, jacobian }
+        let norm = expanded_dot(s, &p, u);
+        let norm = s.factor_groups(norm);
+        Momentum { jacobian, norm }
     }
 
-    /// ½ u^c ∂_d p_c = ½ ∂_d (u·g·u), for each d.
-    pub fn half_gradient_of_norm(&self, s: &mut Store, u: &[ExprId]) -> Vec<ExprId> {
+    /// ½ ∂_d (u·g·u) for each d, by differentiating the factored norm.
+    pub fn half_gradient_of_factored_norm(&self, s: &mut Store, xs: &[ExprId]) -> Vec<ExprId> {
         let half = Q::new(1.into(), 2.into());
-        self.jacobian
-            .iter()
-            .map(|row| {
-                let e = dot(s, u, row);
-                s.scale(e, half.clone())
+        xs.iter()
+            .map(|&x| {
+                let d = s.diff(self.norm, x);
+                let d = s.factor_groups(d);
+                s.scale(d, half.clone())
             })
             .collect()
     }
@@ -77,10 +105,16 @@ impl Momentum {
             .collect()
     }
 
-    /// dp_a/dλ = ½ ∂_a g_bc u^b u^c with u = g⁻¹p: the gradient over velocity symbols `u`,
-    /// then each u^c replaced by `dx[c]`.
-    pub fn hamilton_dp(&self, s: &mut Store, u: &[ExprId], dx: &[ExprId]) -> Vec<ExprId> {
-        let over_u = self.half_gradient_of_norm(s, u);
+    /// dp_a/dλ = ½ ∂_a g_bc u^b u^c with u = g⁻¹p: the gradient of the factored norm over
+    /// velocity symbols `u`, then each u^c replaced by `dx[c]`.
+    pub fn hamilton_dp(
+        &self,
+        s: &mut Store,
+        xs: &[ExprId],
+        u: &[ExprId],
+        dx: &[ExprId],
+    ) -> Vec<ExprId> {
+        let over_u = self.half_gradient_of_factored_norm(s, xs);
         let map: HashMap<ExprId, ExprId> = u.iter().copied().zip(dx.iter().copied()).collect();
         over_u.iter().map(|&e| s.substitute(e, &map)).collect()
     }

@@ -8,9 +8,9 @@
 //! associative operators; common practice). Ties go to the smallest pair, so the result does
 //! not depend on hash order.
 
-use std::collections::HashMap;
+use std::collections::{BTreeMap, BTreeSet};
 
-use crate::expr::{ExprId, Node, Store, Q};
+use crate::expr::{ExprId, FastMap, Node, Store, Q};
 
 /// A factor of a product: a base to a positive rational power, or a named pair of factors.
 #[derive(Clone, PartialEq, Eq, Hash, Debug)]
@@ -39,11 +39,14 @@ pub struct Factoring {
     /// Factor table; lists refer to it by index.
     pub factors: Vec<Factor>,
     /// For each product node: (numerator factors, denominator factors).
-    pub products: HashMap<ExprId, (Vec<usize>, Vec<usize>)>,
+    pub products: FastMap<ExprId, (Vec<usize>, Vec<usize>)>,
     /// Term table; lists refer to it by index.
     pub terms: Vec<Term>,
     /// For each sum node: its (term, coefficient) list.
-    pub sums: HashMap<ExprId, Vec<(usize, Q)>>,
+    pub sums: FastMap<ExprId, Vec<(usize, Q)>>,
+    /// Bases that products reach with exactly one negative exponent (`sin θ` only as
+    /// `sin⁻² θ`): their reciprocal is taken after the power, which the numerators may share.
+    pub single_negative: BTreeSet<ExprId>,
 }
 
 impl Factoring {
@@ -51,8 +54,8 @@ impl Factoring {
     pub fn new(store: &Store, roots: &[ExprId]) -> Factoring {
         let reach = reachable(store, roots);
         let mut f = Factoring::default();
-        let mut factor_index: HashMap<Factor, usize> = HashMap::new();
-        let mut term_index: HashMap<ExprId, usize> = HashMap::new();
+        let mut factor_index: FastMap<Factor, usize> = FastMap::default();
+        let mut term_index: FastMap<ExprId, usize> = FastMap::default();
         let mut product_lists: Vec<(ExprId, Vec<usize>, Vec<usize>)> = Vec::new();
         let mut sum_lists: Vec<(ExprId, Vec<(usize, Q)>)> = Vec::new();
         for (i, &r) in reach.iter().enumerate() {
@@ -92,6 +95,19 @@ impl Factoring {
                 _ => {}
             }
         }
+        let mut negatives: BTreeMap<ExprId, BTreeSet<Q>> = BTreeMap::new();
+        for factor in &f.factors {
+            if let Factor::Power(b, e) = factor {
+                if num_traits::Signed::is_negative(e) {
+                    negatives.entry(*b).or_default().insert(e.clone());
+                }
+            }
+        }
+        f.single_negative = negatives
+            .into_iter()
+            .filter(|(_, es)| es.len() == 1)
+            .map(|(b, _)| b)
+            .collect();
         f.pair_products(&mut product_lists);
         f.pair_sums(&mut sum_lists);
         f.products = product_lists
@@ -105,7 +121,7 @@ impl Factoring {
     fn pair_products(&mut self, lists: &mut [(ExprId, Vec<usize>, Vec<usize>)]) {
         let key = |a: usize, b: usize| (a.min(b), a.max(b));
         let mut pc = PairCounts::default();
-        let mut lists_of: HashMap<usize, Vec<usize>> = HashMap::new();
+        let mut lists_of: FastMap<usize, Vec<usize>> = FastMap::default();
         for (li, (_, l, _)) in lists.iter().enumerate() {
             for (x, &a) in l.iter().enumerate() {
                 lists_of.entry(a).or_default().push(li);
@@ -150,7 +166,7 @@ impl Factoring {
             }
         };
         let mut pc = PairCounts::default();
-        let mut lists_of: HashMap<usize, Vec<usize>> = HashMap::new();
+        let mut lists_of: FastMap<usize, Vec<usize>> = FastMap::default();
         for (li, (_, l)) in lists.iter().enumerate() {
             // Pairs grow as the square of a sum's length; long sums (curvature kernels) are
             // left as they are, where pairing costs far more time than it saves operations.
@@ -200,14 +216,14 @@ impl Factoring {
 /// Occurrence counts of pairs, with the most frequent one at hand: ordered by count, then
 /// by key, so the choice never depends on hash order.
 struct PairCounts<K: Ord + Clone + std::hash::Hash> {
-    counts: HashMap<K, u32>,
+    counts: FastMap<K, u32>,
     queue: std::collections::BTreeSet<(std::cmp::Reverse<u32>, K)>,
 }
 
 impl<K: Ord + Clone + std::hash::Hash> Default for PairCounts<K> {
     fn default() -> Self {
         PairCounts {
-            counts: HashMap::new(),
+            counts: FastMap::default(),
             queue: std::collections::BTreeSet::new(),
         }
     }

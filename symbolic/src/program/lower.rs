@@ -4,8 +4,9 @@
 //! subexpression shared anywhere among a kernel's outputs is computed once. On the way the
 //! canonical sums and products are turned into cheap code: integer powers by repeated
 //! multiplication (x·x, (x·x)·(x·x)), half-integer powers through one square root, a product's
-//! negative powers taken as powers of one reciprocal per base, and a sum's terms grouped by
-//! coefficient so that a shared factor is multiplied once.
+//! negative powers taken as powers of one reciprocal per base (or as the reciprocal of the
+//! power, for a base with no other negative power), and a sum's terms grouped by coefficient
+//! so that a shared factor is multiplied once.
 //!
 //! Constant factors float upwards: every value is lowered as `k·v`, an exact rational `k`
 //! the parent still owes and an SSA value `v`. A product multiplies its factors' `k`s for
@@ -13,16 +14,17 @@
 //! constant is multiplied in once, where it finally meets a function, a square root or an
 //! output, instead of at every level (`2·(a·(2·b) − 4·c)` costs what `4·(a·b − c)` costs).
 //! Signs are the special case `k = −1`: absorbed into subtractions, and at an output into the
-//! single-use subtraction or constant-scaled product that defines it. A last sweep drops
-//! values nothing reads.
+//! single-use subtraction or constant-scaled product that defines it. A last sweep turns a
+//! product with a reciprocal read nowhere else into one division and drops values nothing
+//! reads.
 
-use std::collections::{BTreeMap, HashMap};
+use std::collections::BTreeMap;
 
 use num_traits::{One, Signed, ToPrimitive, Zero};
 
 use super::factor::{Factor, Factoring, Term};
 use super::{InputArray, Instr, KernelKind, KernelProgram, Val};
-use crate::expr::{ExprId, Node, Store, SymbolKind, Q};
+use crate::expr::{ExprId, FastMap, Node, Store, SymbolKind, Q};
 
 /// Lowers `outputs` (flattened over `shape`) of one kernel to a program.
 ///
@@ -38,15 +40,17 @@ pub fn lower(
     let mut l = Lowerer {
         store,
         instrs: Vec::new(),
-        numbering: HashMap::new(),
-        memo: HashMap::new(),
+        numbering: FastMap::default(),
+        memo: FastMap::default(),
         factoring: Factoring::new(store, outputs),
-        factor_vals: HashMap::new(),
-        term_vals: HashMap::new(),
-        sum_memo: HashMap::new(),
+        factor_vals: FastMap::default(),
+        term_vals: FastMap::default(),
+        sum_memo: FastMap::default(),
     };
     let outs: Vec<Val> = outputs.iter().map(|&e| l.lower(e)).collect();
     let (instrs, outputs) = eliminate_dead(l.instrs, outs);
+    let instrs = fold_single_reciprocals(instrs, &outputs);
+    let (instrs, outputs) = eliminate_dead(instrs, outputs);
     KernelProgram {
         kind,
         dim,
@@ -54,6 +58,41 @@ pub fn lower(
         outputs,
         shape,
     }
+}
+
+/// `a·(1/y)` where the reciprocal `1/y` is read by nothing else becomes `a/y`: one division
+/// instead of a division and a multiplication. The reciprocal is left for
+/// [`eliminate_dead`] to drop.
+fn fold_single_reciprocals(mut instrs: Vec<Instr>, outputs: &[Val]) -> Vec<Instr> {
+    let mut uses = vec![0u32; instrs.len()];
+    for ins in &instrs {
+        for o in operands(ins) {
+            uses[o as usize] += 1;
+        }
+    }
+    for &o in outputs {
+        uses[o as usize] += 1;
+    }
+    let single_reciprocal = |instrs: &[Instr], uses: &[u32], r: Val| match instrs[r as usize] {
+        Instr::Div(n, y) if uses[r as usize] == 1 => {
+            matches!(&instrs[n as usize], Instr::Const(c) if c.is_one()).then_some(y)
+        }
+        _ => None,
+    };
+    for i in 0..instrs.len() {
+        let Instr::Mul(a, b) = instrs[i] else {
+            continue;
+        };
+        let folded = match single_reciprocal(&instrs, &uses, b) {
+            Some(y) => Some((a, y, b)),
+            None => single_reciprocal(&instrs, &uses, a).map(|y| (b, y, a)),
+        };
+        if let Some((numerator, y, r)) = folded {
+            instrs[i] = Instr::Div(numerator, y);
+            uses[r as usize] = 0;
+        }
+    }
+    instrs
 }
 
 /// Keeps only the instructions the outputs read, renumbered in their original order.
@@ -120,12 +159,12 @@ type Scaled = (Val, Q);
 struct Lowerer<'a> {
     store: &'a Store,
     instrs: Vec<Instr>,
-    numbering: HashMap<Instr, Val>,
-    memo: HashMap<ExprId, Scaled>,
+    numbering: FastMap<Instr, Val>,
+    memo: FastMap<ExprId, Scaled>,
     factoring: Factoring,
-    factor_vals: HashMap<usize, Scaled>,
-    term_vals: HashMap<usize, Scaled>,
-    sum_memo: HashMap<SumKey, Scaled>,
+    factor_vals: FastMap<usize, Scaled>,
+    term_vals: FastMap<usize, Scaled>,
+    sum_memo: FastMap<SumKey, Scaled>,
 }
 
 impl Lowerer<'_> {
@@ -367,6 +406,15 @@ impl Lowerer<'_> {
                     let one = self.constant(Q::one());
                     let r = self.emit(Instr::Div(one, root));
                     self.power(r, &Q::from_integer(e.numer().abs()))
+                } else if e.is_negative() && self.factoring.single_negative.contains(&b) && {
+                    let one = self.constant(Q::one());
+                    !self.numbering.contains_key(&Instr::Div(one, bv))
+                } {
+                    // The only negative power of this base, and 1/b not computed already:
+                    // 1/bⁿ costs what (1/b)ⁿ costs and shares bⁿ with the numerators (sin²θ).
+                    let one = self.constant(Q::one());
+                    let p = self.power(bv, &e.abs());
+                    self.emit(Instr::Div(one, p))
                 } else if e.is_negative() {
                     let one = self.constant(Q::one());
                     let r = self.emit(Instr::Div(one, bv));
@@ -499,5 +547,35 @@ fn pow_i32(k: &Q, n: i32) -> Q {
         r.recip()
     } else {
         r
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::expr::SymbolKind;
+
+    /// x/y and 1/sin²θ: a reciprocal read once becomes one division, and a base with one
+    /// negative power takes the reciprocal of the power it already squares.
+    #[test]
+    fn single_reciprocals_fold_into_divisions() {
+        let mut s = Store::new();
+        let x = s.symbol("x", SymbolKind::Coordinate(0));
+        let y = s.symbol("y", SymbolKind::Coordinate(1));
+        let q = s.div(x, y);
+        let p = lower(&s, KernelKind::Metric, 2, &[q], vec![1]);
+        assert_eq!(p.op_counts().total(), 1, "{p}");
+        assert!(p.instrs.iter().any(|i| matches!(i, Instr::Div(..))), "{p}");
+        let sn = s.call(crate::expr::Func::Sin, y);
+        let s2 = s.powi(sn, 2);
+        let inv_s2 = s.powi(sn, -2);
+        let both = s.add(&[s2, inv_s2]);
+        let p = lower(&s, KernelKind::Metric, 2, &[both], vec![1]);
+        // sin, sin², 1/sin², the sum.
+        assert_eq!(p.op_counts().total(), 4, "{p}");
+        let mut out = Vec::new();
+        p.eval_f64(&|_| vec![0.3, 0.7], &mut out);
+        let want = 0.7f64.sin().powi(2) + 0.7f64.sin().powi(-2);
+        assert!((out[0] - want).abs() < 1e-14 * want, "{} vs {want}", out[0]);
     }
 }
