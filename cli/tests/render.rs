@@ -9,6 +9,7 @@ use geokern_cli::render::{
     trace_pixels, DiskChoice, Equations, Hit, RayCounts, Scene, SceneOptions,
 };
 use geokern_cli::source;
+use geokern_cli::tape_metric::Evaluator;
 use geokern_symbolic::kernels::KernelSet;
 
 fn kernels(stem: &str) -> KernelSet {
@@ -374,5 +375,32 @@ fn bad_input_gives_one_clear_line() {
         let run = geokern(&args);
         let line = run.one_error_line();
         assert!(line.contains(needle), "{args:?}: {line}");
+    }
+}
+
+/// Native code and the lane tape round alike, so every ray ends on the same bits whichever
+/// evaluates the right-hand side, in both forms of the equations.
+#[test]
+fn native_and_tape_rays_are_identical() {
+    let ks = kernels("kerr_bl");
+    let pixels: Vec<(usize, usize)> = (0..17).flat_map(|c| [(c, 3), (c, 8)]).collect();
+    for equations in [Equations::Hamilton, Equations::Accel] {
+        let run = |evaluator| {
+            let options = SceneOptions {
+                size: (17, 13),
+                equations,
+                evaluator,
+                ..SceneOptions::default()
+            };
+            let scene = Scene::new(&ks, &[1.0, 0.9], &options).expect("scene");
+            (scene.evaluator_name(), trace(&scene, &pixels))
+        };
+        let (tape, native) = (run(Evaluator::Tape), run(Evaluator::Native));
+        assert_eq!((tape.0, native.0), ("tape", "native"));
+        assert_eq!(
+            format!("{:?}", tape.1),
+            format!("{:?}", native.1),
+            "{equations:?}"
+        );
     }
 }

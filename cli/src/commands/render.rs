@@ -74,6 +74,9 @@ pub struct RenderArgs {
     /// Step attempts per ray before it counts as unresolved.
     #[arg(long, value_name = "N", default_value_t = 20_000)]
     pub max_attempts: u32,
+    /// Which evaluator runs the rays.
+    #[command(flatten)]
+    pub evaluator: crate::args::EvaluatorChoice,
     /// Output format.
     #[command(flatten)]
     pub format: crate::args::Format,
@@ -175,6 +178,7 @@ pub fn run(args: &RenderArgs) -> Result<String, CliError> {
         rtol: args.rtol,
         equations: args.equations,
         max_attempts: args.max_attempts,
+        evaluator: args.evaluator.evaluator,
     };
     let scene = Scene::new(ks, &params, &options)?;
     let progress = Progress::new(args.format.json, &format!("rendering {}", ks.name));
@@ -251,6 +255,7 @@ impl Summary<'_> {
             "horizon": json::number(s.horizon),
             "disk": s.disk.map(|d| vec![json::number(d.inner), json::number(d.outer)]),
             "equations": s.equations.name(),
+            "evaluator": s.evaluator_name(),
             "lanes": LANES,
             "rtol": json::number(s.rtol),
             "rays": c.rays,
@@ -312,9 +317,14 @@ impl Summary<'_> {
         );
         let _ = writeln!(
             out,
-            "  work      {} form, Dormand-Prince 5(4) on {} lanes, rtol {}: {:.1} RHS evaluations \
-             and {:.1} steps per ray ({:.1}% rejected), lanes {:.0}% busy",
+            "  work      {} form ({}), Dormand-Prince 5(4) on {} lanes, rtol {}: {:.1} RHS \
+             evaluations and {:.1} steps per ray ({:.1}% rejected), lanes {:.0}% busy",
             s.equations.name(),
+            if s.evaluator_name() == "native" {
+                "native code"
+            } else {
+                "lane tape"
+            },
             LANES,
             report::number(s.rtol, 3),
             self.per_ray(c.evaluations),

@@ -34,6 +34,7 @@
 //! ```
 
 mod calls;
+mod lanes;
 mod lower;
 #[cfg(test)]
 mod tests;
@@ -47,7 +48,9 @@ use geokern_symbolic::program::{Instr, KernelKind, KernelProgram};
 
 use crate::tape::{check_program, Inputs, TapeError};
 
-use lower::ARRAYS;
+use lower::{Form, ARRAYS};
+
+pub use lanes::NativeLanes;
 
 /// Why a program could not be compiled to machine code.
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
@@ -118,35 +121,14 @@ impl NativeKernel {
         program: &KernelProgram,
         param_count: usize,
     ) -> Result<NativeKernel, NativeError> {
-        check_program(program, param_count)?;
-        let mut reads = [0; ARRAYS.len()];
-        for ins in &program.instrs {
-            if let Instr::Input(array, k) = *ins {
-                if let Some(slot) = ARRAYS.iter().position(|a| *a == array) {
-                    reads[slot] = reads[slot].max(usize::from(k) + 1);
-                }
-            }
-        }
-        let mut builder = JITBuilder::with_isa(host_isa()?, default_libcall_names());
-        for (name, address) in calls::symbols() {
-            builder.symbol(name, address);
-        }
-        let mut module = JITModule::new(builder);
-        let id = lower::define(&mut module, "kernel", program)?;
-        module
-            .finalize_definitions()
-            .map_err(|e| NativeError::Codegen(e.to_string()))?;
-        let address = module.get_finalized_function(id);
-        // SAFETY: `lower::define` built this function with the signature of `Entry` in the
-        // host's default calling convention, which is the C convention `Entry` names.
-        let entry = unsafe { std::mem::transmute::<*const u8, Entry>(address) };
+        let compiled = Compiled::new(program, param_count, Form::Scalar)?;
         Ok(NativeKernel {
             kind: program.kind,
-            entry,
-            reads,
+            entry: compiled.entry,
+            reads: compiled.reads,
             output_len: program.outputs.len(),
             shape: program.shape.clone(),
-            _code: Arc::new(Code(Mutex::new(Some(module)))),
+            _code: compiled.code,
         })
     }
 
@@ -203,6 +185,50 @@ impl NativeKernel {
             let n = out.len();
             out.copy_from_slice(&spare[..n]);
         }
+    }
+}
+
+/// A program compiled in one [`Form`]: its entry point, how many elements of each of
+/// [`ARRAYS`] it reads, and the memory holding it.
+struct Compiled {
+    entry: Entry,
+    reads: [usize; ARRAYS.len()],
+    code: Arc<Code>,
+}
+
+impl Compiled {
+    fn new(
+        program: &KernelProgram,
+        param_count: usize,
+        form: Form,
+    ) -> Result<Compiled, NativeError> {
+        check_program(program, param_count)?;
+        let mut reads = [0; ARRAYS.len()];
+        for ins in &program.instrs {
+            if let Instr::Input(array, k) = *ins {
+                if let Some(slot) = ARRAYS.iter().position(|a| *a == array) {
+                    reads[slot] = reads[slot].max(usize::from(k) + 1);
+                }
+            }
+        }
+        let mut builder = JITBuilder::with_isa(host_isa()?, default_libcall_names());
+        for (name, address) in calls::symbols() {
+            builder.symbol(name, address);
+        }
+        let mut module = JITModule::new(builder);
+        let id = lower::define(&mut module, "kernel", program, form)?;
+        module
+            .finalize_definitions()
+            .map_err(|e| NativeError::Codegen(e.to_string()))?;
+        let address = module.get_finalized_function(id);
+        // SAFETY: `lower::define` built this function with the signature of `Entry` in the
+        // host's default calling convention, which is the C convention `Entry` names.
+        let entry = unsafe { std::mem::transmute::<*const u8, Entry>(address) };
+        Ok(Compiled {
+            entry,
+            reads,
+            code: Arc::new(Code(Mutex::new(Some(module)))),
+        })
     }
 }
 

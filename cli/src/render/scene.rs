@@ -8,10 +8,12 @@ use geokern_symbolic::program::KernelKind;
 
 use crate::error::CliError;
 use crate::horizon::horizons;
+use crate::native::{NativeError, NativeLanes};
 use crate::render::camera::Camera;
 use crate::render::tracer::LANES;
 use crate::tape::lanes::{LaneInputs, LaneProgram, LaneRegisters};
 use crate::tape::Inputs;
+use crate::tape_metric::Evaluator;
 use crate::tape_metric::TapeSet;
 
 /// Which form of the geodesic equations the rays are integrated in.
@@ -73,6 +75,8 @@ pub struct SceneOptions {
     pub equations: Equations,
     /// Step attempts allowed per ray before it counts as unresolved.
     pub max_attempts: u32,
+    /// Which evaluator runs the rays' right-hand side (both give the same bits).
+    pub evaluator: Evaluator,
 }
 
 impl Default for SceneOptions {
@@ -86,6 +90,7 @@ impl Default for SceneOptions {
             rtol: 1e-6,
             equations: Equations::Hamilton,
             max_attempts: 20_000,
+            evaluator: Evaluator::Auto,
         }
     }
 }
@@ -127,6 +132,8 @@ pub struct Scene {
     /// Step attempts allowed per ray.
     pub max_attempts: u32,
     pub(crate) rhs: LaneProgram<LANES>,
+    /// The same right-hand side as machine code, when the native evaluator runs.
+    pub(crate) native_rhs: Option<NativeLanes<LANES>>,
     metric: LaneProgram<1>,
     christoffel: LaneProgram<1>,
 }
@@ -219,6 +226,19 @@ impl Scene {
             (2.0 * (reach / distance).atan()).min(150f64.to_radians())
         });
         let camera = Camera::new(&set, distance, options.inclination, options.size, fov)?;
+        let rhs_kind = match options.equations {
+            Equations::Hamilton => KernelKind::Hamilton,
+            Equations::Accel => KernelKind::Accel,
+        };
+        let native_rhs = match (
+            options.evaluator,
+            NativeLanes::compile(kernels.program(rhs_kind), kernels.params.len()),
+        ) {
+            (Evaluator::Tape, _) => None,
+            (_, Ok(native)) => Some(native),
+            (Evaluator::Auto, Err(NativeError::Host(_))) => None,
+            (_, Err(e)) => return Err(e.into()),
+        };
         let lane = |kind| {
             LaneProgram::new(kernels.program(kind))
                 .map_err(|e| CliError::Unsuited(format!("`{name}`: {e}")))
@@ -236,11 +256,9 @@ impl Scene {
             rtol: options.rtol,
             atol: options.rtol * 1e-2,
             max_attempts: options.max_attempts.max(1),
-            rhs: LaneProgram::new(kernels.program(match options.equations {
-                Equations::Hamilton => KernelKind::Hamilton,
-                Equations::Accel => KernelKind::Accel,
-            }))
-            .map_err(|e| CliError::Unsuited(format!("`{name}`: {e}")))?,
+            rhs: LaneProgram::new(kernels.program(rhs_kind))
+                .map_err(|e| CliError::Unsuited(format!("`{name}`: {e}")))?,
+            native_rhs,
             metric: lane(KernelKind::Metric)?,
             christoffel: lane(KernelKind::Christoffel)?,
         };
@@ -248,6 +266,15 @@ impl Scene {
             scene.check_emitters(&d)?;
         }
         Ok(scene)
+    }
+
+    /// The evaluator of the rays' right-hand side: `"native"` or `"tape"`.
+    pub fn evaluator_name(&self) -> &'static str {
+        if self.native_rhs.is_some() {
+            "native"
+        } else {
+            "tape"
+        }
     }
 
     /// Fresh register files for one worker.

@@ -139,12 +139,16 @@ const HORIZON_SHARE: f64 = 0.9;
 /// The remembered error before a ray's first step.
 const FIRST_ERROR: f64 = 1e-4;
 
-/// The geodesic right-hand side on every lane.
+/// The geodesic right-hand side on every lane, as native code when the scene has it.
 fn rhs(scene: &Scene, registers: &mut LaneRegisters<LANES>, y: &Lanes, out: &mut Lanes) {
     let (x, w) = y.split_at(4);
+    let mut eval =
+        |inputs: &LaneInputs<'_, LANES>, out: &mut [[f64; LANES]]| match &scene.native_rhs {
+            Some(native) => native.eval(&scene.params, inputs, out),
+            None => scene.rhs.eval(registers, inputs, out),
+        };
     match scene.equations {
-        Equations::Hamilton => scene.rhs.eval(
-            registers,
+        Equations::Hamilton => eval(
             &LaneInputs {
                 x,
                 p: w,
@@ -155,8 +159,7 @@ fn rhs(scene: &Scene, registers: &mut LaneRegisters<LANES>, y: &Lanes, out: &mut
         Equations::Accel => {
             let (dx, du) = out.split_at_mut(4);
             dx.copy_from_slice(w);
-            scene.rhs.eval(
-                registers,
+            eval(
                 &LaneInputs {
                     x,
                     u: w,
