@@ -8,26 +8,39 @@ use num_traits::{One, Signed, Zero};
 
 use super::{ExprId, Node, Store, Q};
 
+/// The constant, the `(term, coefficient)` pairs and each term's `(base, exponent)` factors
+/// of a sum.
+type FactoredTerms = (Q, Vec<(ExprId, Q)>, Vec<Vec<(ExprId, Q)>>);
+
 impl Store {
+    /// A sum of two or more terms as [`FactoredTerms`] (a term that is not a product is its
+    /// own single factor); `None` for anything else.
+    fn terms_as_factors(&self, e: ExprId) -> Option<FactoredTerms> {
+        let Node::Add(c, terms) = self.node(e).clone() else {
+            return None;
+        };
+        if terms.len() < 2 {
+            return None;
+        }
+        let lists = terms
+            .iter()
+            .map(|(t, _)| match self.node(*t) {
+                Node::Mul(fs) => fs.to_vec(),
+                _ => vec![(*t, Q::one())],
+            })
+            .collect();
+        Some((c, terms.to_vec(), lists))
+    }
+
     /// `e` with the factor shared by the most terms of its sum pulled out, repeatedly (greedy
     /// factoring of a sum of products, common practice): `f·l_x·u^t + f·l_x²·u^x + u^x` becomes
     /// `f·l_x·(u^t + l_x·u^x) + u^x`. A factor is a base with exponents of one sign; the smallest
     /// such exponent among the terms that share it is what comes out.
     pub fn collect_common(&mut self, e: ExprId) -> ExprId {
         let s = self;
-        let Node::Add(c, terms) = s.node(e).clone() else {
+        let Some((c, terms, lists)) = s.terms_as_factors(e) else {
             return e;
         };
-        if terms.len() < 2 {
-            return e;
-        }
-        let lists: Vec<Vec<(ExprId, Q)>> = terms
-            .iter()
-            .map(|(t, _)| match s.node(*t) {
-                Node::Mul(fs) => fs.to_vec(),
-                _ => vec![(*t, Q::one())],
-            })
-            .collect();
         // (base, negative exponent?) → (terms containing it, smallest magnitude).
         let mut shared: BTreeMap<(ExprId, bool), (usize, Q)> = BTreeMap::new();
         for list in &lists {
@@ -125,19 +138,9 @@ impl Store {
     /// `−u_t + l·u_φ` become one node.
     pub fn factor_groups(&mut self, e: ExprId) -> ExprId {
         let s = self;
-        let Node::Add(c, terms) = s.node(e).clone() else {
+        let Some((c, terms, lists)) = s.terms_as_factors(e) else {
             return e;
         };
-        if terms.len() < 2 {
-            return e;
-        }
-        let lists: Vec<Vec<(ExprId, Q)>> = terms
-            .iter()
-            .map(|(t, _)| match s.node(*t) {
-                Node::Mul(fs) => fs.to_vec(),
-                _ => vec![(*t, Q::one())],
-            })
-            .collect();
         // (base, negative exponent?) → the terms holding it, in order.
         let mut holders: BTreeMap<(ExprId, bool), Vec<usize>> = BTreeMap::new();
         for (i, list) in lists.iter().enumerate() {
