@@ -341,8 +341,12 @@ impl<const N: usize> Stepper<N> for DormandPrince853<N> {
         8
     }
     fn controller(&self) -> Option<PiController> {
-        // HNW's DOP853 code: exponent 1/8, β = 0, factor bounds [0.333, 6] (from memory).
-        Some(PiController::new(8, 0.0, 0.333, 6.0))
+        // HNW's DOP853 code: exponent 1/8 and factor bounds [0.333, 6] (from memory); its
+        // default β = 0 (a pure I controller) is replaced by the β = 0.04 of their DOPRI5 code:
+        // measured with `geokern trace` on three bound Kerr orbits (a = 0.9, λ = 3000, default
+        // tolerances), the PI controller halves the rejected steps (54 → 21, 184 → 89,
+        // 80 → 47) and saves 1-5% of the evaluations, with the same drift of g(u,u).
+        Some(PiController::new(8, 0.04, 0.333, 6.0))
     }
     fn reset<S: System<N>>(&mut self, system: &S, y: &State<N>, stats: &mut Stats) -> bool {
         let mut f = State::zero();
