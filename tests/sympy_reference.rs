@@ -6,6 +6,10 @@
 use geokern::MetricKernels;
 use serde_json::Value;
 
+#[macro_use]
+#[path = "support/examples.rs"]
+mod examples;
+
 geokern::include_metric!("examples/metrics/schwarzschild.gk");
 geokern::include_metric!("examples/metrics/kerr_bl.gk");
 geokern::include_metric!("examples/metrics/kerr_schild.gk");
@@ -87,47 +91,4 @@ fn check<M: MetricKernels<f64, N>, const N: usize>(key: &str, make: impl Fn(&[f6
     }
 }
 
-#[test]
-fn schwarzschild() {
-    check("schwarzschild", |p| Schwarzschild::new(p[0]));
-}
-
-#[test]
-fn kerr_boyer_lindquist() {
-    check("kerr_bl", |p| Kerr::new(p[0], p[1]));
-}
-
-#[test]
-fn kerr_schild_dense() {
-    check("kerr_schild", |p| KerrSchild::new(p[0], p[1]));
-}
-
-#[test]
-fn kerr_schild_with_declared_inverse() {
-    check("kerr_schild_ginv", |p| KerrSchildInv::new(p[0], p[1]));
-}
-
-#[test]
-fn flrw_power_law() {
-    check("flrw", |p| Flrw::new(p[0]));
-}
-
-#[test]
-fn round_sphere() {
-    check("sphere", |p| Sphere::new(p[0]));
-}
-
-#[test]
-fn tangherlini_five_dimensions() {
-    check("tangherlini", |p| Tangherlini5::new(p[0]));
-}
-
-#[test]
-fn twisted_shear_riemannian() {
-    check("twisted_shear", |p| TwistedShear::new(p[0], p[1]));
-}
-
-#[test]
-fn ellis_wormhole() {
-    check("ellis_wormhole", |p| EllisWormhole::new(p[0]));
-}
+test_each_example!(check);

@@ -7,6 +7,9 @@
 //!   runs the same programs, so it should agree far better than that).
 
 mod common;
+#[macro_use]
+#[path = "../../tests/support/examples.rs"]
+mod examples;
 
 use common::{arg_vector, example, floats, geokern};
 use geokern::MetricKernels;
@@ -131,50 +134,7 @@ fn check<M: MetricKernels<f64, N>, const N: usize>(stem: &str, make: impl Fn(&[f
     }
 }
 
-#[test]
-fn schwarzschild() {
-    check("schwarzschild", |p| Schwarzschild::new(p[0]));
-}
-
-#[test]
-fn kerr_boyer_lindquist() {
-    check("kerr_bl", |p| Kerr::new(p[0], p[1]));
-}
-
-#[test]
-fn kerr_schild() {
-    check("kerr_schild", |p| KerrSchild::new(p[0], p[1]));
-}
-
-#[test]
-fn kerr_schild_with_declared_inverse() {
-    check("kerr_schild_ginv", |p| KerrSchildInv::new(p[0], p[1]));
-}
-
-#[test]
-fn flrw() {
-    check("flrw", |p| Flrw::new(p[0]));
-}
-
-#[test]
-fn sphere() {
-    check("sphere", |p| Sphere::new(p[0]));
-}
-
-#[test]
-fn tangherlini() {
-    check("tangherlini", |p| Tangherlini5::new(p[0]));
-}
-
-#[test]
-fn twisted_shear() {
-    check("twisted_shear", |p| TwistedShear::new(p[0], p[1]));
-}
-
-#[test]
-fn ellis_wormhole() {
-    check("ellis_wormhole", |p| EllisWormhole::new(p[0]));
-}
+test_each_example!(check);
 
 /// Every example file has reference data, so none escapes the checks above.
 #[test]

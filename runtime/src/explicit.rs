@@ -49,6 +49,40 @@ fn explicit_stages<S: System<N>, const N: usize, const M: usize>(
     }
 }
 
+/// The end of a "first same as last" step: the new solution `y + h Σ b_i k_i`, and its
+/// derivative stored as the last stage `k[last]` (the next step's first). Fails when either
+/// is not finite.
+fn fsal_finish<S: System<N>, const N: usize>(
+    system: &S,
+    y: &State<N>,
+    h: f64,
+    b: &[f64],
+    k: &mut [State<N>],
+    last: usize,
+    stats: &mut Stats,
+) -> Result<State<N>, StepFailure> {
+    let y1 = State::combine(y, h, b, k);
+    let mut f1 = State::zero();
+    eval(system, &y1, &mut f1, stats);
+    k[last] = f1;
+    if y1.is_finite() && f1.is_finite() {
+        Ok(y1)
+    } else {
+        Err(StepFailure::NonFinite)
+    }
+}
+
+/// Evaluates the first stage `f(y)` of a step into `first`; whether it is finite.
+fn first_stage<S: System<N>, const N: usize>(
+    system: &S,
+    y: &State<N>,
+    first: &mut State<N>,
+    stats: &mut Stats,
+) -> bool {
+    eval(system, y, first, stats);
+    first.is_finite()
+}
+
 /// Cubic Hermite interpolation between `(y0, f0)` and `(y1, f1)` over a step `h` (third
 /// order; common practice for methods without a built-in continuous extension).
 fn hermite<const N: usize>(
@@ -113,10 +147,7 @@ impl<const N: usize> Stepper<N> for Rk4<N> {
         None
     }
     fn reset<S: System<N>>(&mut self, system: &S, y: &State<N>, stats: &mut Stats) -> bool {
-        let mut f = State::zero();
-        eval(system, y, &mut f, stats);
-        self.k[0] = f;
-        f.is_finite()
+        first_stage(system, y, &mut self.k[0], stats)
     }
     fn derivative(&self) -> &State<N> {
         &self.k[0]
@@ -198,10 +229,7 @@ impl<const N: usize> Stepper<N> for DormandPrince54<N> {
         Some(PiController::new(5, 0.04, 0.2, 10.0))
     }
     fn reset<S: System<N>>(&mut self, system: &S, y: &State<N>, stats: &mut Stats) -> bool {
-        let mut f = State::zero();
-        eval(system, y, &mut f, stats);
-        self.k[0] = f;
-        f.is_finite()
+        first_stage(system, y, &mut self.k[0], stats)
     }
     fn derivative(&self) -> &State<N> {
         &self.k[0]
@@ -218,13 +246,7 @@ impl<const N: usize> Stepper<N> for DormandPrince54<N> {
         self.y0 = *y;
         self.h = h;
         // The seventh row of `a` is `b`: its stage input is the new solution.
-        self.y1 = State::combine(y, h, &self.tableau.b, &self.k);
-        let mut f1 = State::zero();
-        eval(system, &self.y1, &mut f1, stats);
-        self.k[6] = f1;
-        if !self.y1.is_finite() || !f1.is_finite() {
-            return Err(StepFailure::NonFinite);
-        }
+        self.y1 = fsal_finish(system, y, h, &self.tableau.b, &mut self.k, 6, stats)?;
         let err = State::combine(&State::zero(), h, &self.error_weights, &self.k);
         let norm = tol.error_norm(&err, y, &self.y1);
         if norm.is_finite() {
@@ -349,10 +371,7 @@ impl<const N: usize> Stepper<N> for DormandPrince853<N> {
         Some(PiController::new(8, 0.04, 0.333, 6.0))
     }
     fn reset<S: System<N>>(&mut self, system: &S, y: &State<N>, stats: &mut Stats) -> bool {
-        let mut f = State::zero();
-        eval(system, y, &mut f, stats);
-        self.k[0] = f;
-        f.is_finite()
+        first_stage(system, y, &mut self.k[0], stats)
     }
     fn derivative(&self) -> &State<N> {
         &self.k[0]
@@ -370,13 +389,7 @@ impl<const N: usize> Stepper<N> for DormandPrince853<N> {
         self.y0 = *y;
         self.h = h;
         self.dense_ready = false;
-        self.y1 = State::combine(y, h, &t.b, &self.k);
-        let mut f1 = State::zero();
-        eval(system, &self.y1, &mut f1, stats);
-        self.k[12] = f1;
-        if !self.y1.is_finite() || !f1.is_finite() {
-            return Err(StepFailure::NonFinite);
-        }
+        self.y1 = fsal_finish(system, y, h, &t.b, &mut self.k, 12, stats)?;
         // The combined estimate of HNW's DOP853: err5² / sqrt(err5² + 0.01 err3²), which
         // behaves like an eighth-order error for small h and stays robust for large h.
         let e5 = State::combine(&State::zero(), 1.0, &DORMAND_PRINCE_853_ERROR_5, &self.k);

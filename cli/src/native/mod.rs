@@ -9,6 +9,9 @@
 //! elementary functions are the routines the tape calls, so the two evaluators agree bit
 //! for bit (the tests hold them to it on every example metric).
 //!
+//! [`NativeLanes`] compiles the same program for many points per call, in the layout of the
+//! [lane tape](crate::tape::lanes), two points per vector instruction.
+//!
 //! Compiling takes about a millisecond per kernel; the tape needs none. Hosts the code
 //! generator does not support are reported as [`NativeError::Host`], and the tool falls back
 //! to the tape.
