@@ -57,8 +57,9 @@ pub struct MetricFile {
 /// Which evaluator runs the kernels.
 #[derive(Debug, Args)]
 pub struct EvaluatorChoice {
-    /// `native` (compiled to machine code when the command starts), `tape` (interpreted),
-    /// or `auto`: native where this machine has a code generator. Both give the same bits.
+    /// `native` (compiled to machine code), `tape` (interpreted), or `auto`: native where
+    /// this machine has a code generator, each kernel compiled when first run (`eval`, which
+    /// runs each kernel once, interprets). Both give the same bits.
     #[arg(long, value_name = "KIND", default_value = "auto", value_parser = evaluator)]
     pub evaluator: Evaluator,
 }

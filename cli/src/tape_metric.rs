@@ -8,10 +8,11 @@
 //! into that constant. Both evaluators give the same bits, so the choice changes speed only.
 
 use std::cell::RefCell;
+use std::sync::{Arc, OnceLock};
 
 use geokern_runtime::MetricKernels;
 use geokern_symbolic::kernels::KernelSet;
-use geokern_symbolic::program::KernelKind;
+use geokern_symbolic::program::{KernelKind, KernelProgram};
 
 use crate::error::CliError;
 use crate::native::{NativeError, NativeKernel};
@@ -64,7 +65,24 @@ pub struct TapeSet {
     pub params: Vec<f64>,
     tapes: Vec<Tape>,
     /// The kernels as machine code, in the order of `tapes`, when the native evaluator runs.
-    native: Option<Vec<NativeKernel>>,
+    native: Option<Arc<NativeSlots>>,
+}
+
+/// The kernels' machine code, each compiled when first asked for (or up front, for
+/// [`Evaluator::Native`]); a kernel whose compilation failed runs on its tape.
+#[derive(Debug)]
+struct NativeSlots {
+    programs: Vec<KernelProgram>,
+    param_count: usize,
+    kernels: Vec<OnceLock<Option<NativeKernel>>>,
+}
+
+impl NativeSlots {
+    fn get(&self, position: usize) -> Option<&NativeKernel> {
+        self.kernels[position]
+            .get_or_init(|| NativeKernel::compile(&self.programs[position], self.param_count).ok())
+            .as_ref()
+    }
 }
 
 impl TapeSet {
@@ -88,26 +106,52 @@ impl TapeSet {
     }
 
     /// [`new`](Self::new), with the kernels also compiled to machine code when `evaluator`
-    /// asks for it ([`Evaluator::Auto`] falls back to the tape where this machine has no
-    /// code generator).
+    /// asks for it. [`Evaluator::Native`] compiles every kernel now and reports any failure;
+    /// [`Evaluator::Auto`] compiles the metric kernel now (the tape takes over where this
+    /// machine has no code generator) and every other kernel when first evaluated, so a
+    /// command pays only for the kernels it runs.
     pub fn with_evaluator(
         kernels: &KernelSet,
         params: &[f64],
         evaluator: Evaluator,
     ) -> Result<TapeSet, CliError> {
         let mut set = TapeSet::new(kernels, params)?;
-        if evaluator == Evaluator::Tape {
-            return Ok(set);
-        }
-        let native = KernelKind::ALL
-            .iter()
-            .map(|&k| NativeKernel::compile(kernels.program(k), kernels.params.len()))
-            .collect::<Result<Vec<_>, _>>();
-        match (native, evaluator) {
-            (Ok(native), _) => set.native = Some(native),
-            (Err(NativeError::Host(_)), Evaluator::Auto) => {}
-            (Err(e), _) => return Err(e.into()),
-        }
+        let count = kernels.params.len();
+        let slots = match evaluator {
+            Evaluator::Tape => return Ok(set),
+            Evaluator::Native => KernelKind::ALL
+                .iter()
+                .map(|&k| {
+                    Ok(OnceLock::from(Some(NativeKernel::compile(
+                        kernels.program(k),
+                        count,
+                    )?)))
+                })
+                .collect::<Result<Vec<_>, NativeError>>()?,
+            Evaluator::Auto => {
+                let probe = match NativeKernel::compile(kernels.program(KernelKind::Metric), count)
+                {
+                    Ok(metric) => Some(metric),
+                    Err(NativeError::Host(_)) => return Ok(set),
+                    Err(_) => None,
+                };
+                KernelKind::ALL
+                    .iter()
+                    .map(|&k| match k {
+                        KernelKind::Metric => OnceLock::from(probe.clone()),
+                        _ => OnceLock::new(),
+                    })
+                    .collect()
+            }
+        };
+        set.native = Some(Arc::new(NativeSlots {
+            programs: KernelKind::ALL
+                .iter()
+                .map(|&k| kernels.program(k).clone())
+                .collect(),
+            param_count: count,
+            kernels: slots,
+        }));
         Ok(set)
     }
 
@@ -135,9 +179,14 @@ impl TapeSet {
         &self.tapes[Self::position(kind)]
     }
 
-    /// The machine code of one kernel, when the native evaluator runs.
+    /// The machine code of one kernel, when the native evaluator runs (compiled now if it
+    /// was not yet).
     pub fn native(&self, kind: KernelKind) -> Option<&NativeKernel> {
-        self.native.as_ref().map(|n| &n[Self::position(kind)])
+        self.native_at(Self::position(kind))
+    }
+
+    fn native_at(&self, position: usize) -> Option<&NativeKernel> {
+        self.native.as_ref().and_then(|slots| slots.get(position))
     }
 
     /// Evaluates one kernel into a new vector (convenient, allocating: for one-off values;
@@ -156,29 +205,24 @@ impl TapeSet {
     }
 }
 
-/// One kernel ready to run: a tape with its register file (borrowed mutably per call), or
-/// native code with the parameter values.
+/// One kernel ready to run: native code when the set has it, else the tape with its register
+/// file (borrowed mutably per call).
 #[derive(Debug)]
-enum Bound<'a> {
-    Tape {
-        tape: &'a Tape,
-        registers: RefCell<Registers>,
-    },
-    Native {
-        kernel: &'a NativeKernel,
-        params: &'a [f64],
-    },
+struct Bound<'a> {
+    set: &'a TapeSet,
+    position: usize,
+    registers: RefCell<Registers>,
 }
 
 impl Bound<'_> {
     fn eval(&self, inputs: &Inputs<'_>, out: &mut [f64]) {
-        match self {
-            Bound::Tape { tape, registers } => {
+        match self.set.native_at(self.position) {
+            Some(kernel) => kernel.eval(&self.set.params, inputs, out),
+            None => {
                 // Kernels never call each other, so the borrow cannot be held twice.
-                let mut registers = registers.borrow_mut();
-                tape.eval(&mut registers, inputs, out);
+                let mut registers = self.registers.borrow_mut();
+                self.set.tapes[self.position].eval(&mut registers, inputs, out);
             }
-            Bound::Native { kernel, params } => kernel.eval(params, inputs, out),
         }
     }
 }
@@ -201,20 +245,14 @@ impl<'a, const N: usize> TapeMetric<'a, N> {
         if set.dim() != N {
             return None;
         }
-        let kernels = KernelKind::ALL
+        let kernels = set
+            .tapes
             .iter()
-            .map(|&k| match set.native(k) {
-                Some(kernel) => Bound::Native {
-                    kernel,
-                    params: &set.params,
-                },
-                None => {
-                    let tape = set.tape(k);
-                    Bound::Tape {
-                        tape,
-                        registers: RefCell::new(tape.registers(&set.params)),
-                    }
-                }
+            .enumerate()
+            .map(|(position, tape)| Bound {
+                set,
+                position,
+                registers: RefCell::new(tape.registers(&set.params)),
             })
             .collect();
         Some(TapeMetric {
@@ -431,6 +469,37 @@ mod tests {
         );
         assert_eq!(Evaluator::from_name("NATIVE"), Some(Evaluator::Native));
         assert_eq!(Evaluator::from_name("jit"), None);
+    }
+
+    /// `auto` compiles a kernel when it first runs, so a command pays only for the kernels
+    /// it uses; what it computes is the tape's.
+    #[test]
+    fn auto_compiles_kernels_when_first_run() {
+        let text = "struct S { coords: [t, r], params: [k],
+            g[t, t] = -(1.0 - k / r); g[r, r] = 1.0 / (1.0 - k / r); }";
+        let loaded = source::load_bytes("s.gk", text.as_bytes(), None).expect("derives");
+        let set = TapeSet::with_evaluator(&loaded.kernels, &[0.5], Evaluator::Auto)
+            .expect("this machine has a code generator");
+        let compiled = |kind| {
+            set.native.as_ref().expect("native slots").kernels[TapeSet::position(kind)]
+                .get()
+                .is_some()
+        };
+        assert!(compiled(KernelKind::Metric), "the probe");
+        assert!(!compiled(KernelKind::Accel) && !compiled(KernelKind::Christoffel));
+        let view = TapeMetric::<2>::new(&set).expect("two");
+        let (x, u) = ([0.0, 3.0], [1.2, 0.1]);
+        let a = view.geodesic_accel(&x, &u);
+        assert!(compiled(KernelKind::Accel));
+        assert!(
+            !compiled(KernelKind::Christoffel),
+            "never run, never compiled"
+        );
+        let tape = TapeSet::new(&loaded.kernels, &[0.5]).expect("tapes");
+        let want = TapeMetric::<2>::new(&tape)
+            .expect("two")
+            .geodesic_accel(&x, &u);
+        assert_eq!(a.map(f64::to_bits), want.map(f64::to_bits));
     }
 
     /// The trait methods return the flat kernel outputs in the documented index order.

@@ -134,9 +134,7 @@ pub fn run(args: &DemoArgs) -> Result<String, CliError> {
     let ks = &loaded.kernels;
     let given: Vec<String> = PARAMS.iter().map(|(n, v)| format!("{n}={v}")).collect();
     let params = source::bind_params(ks, &given)?;
-    let started = Instant::now();
     let set = TapeSet::with_evaluator(ks, &params, args.evaluator.evaluator)?;
-    let preparation_time = started.elapsed();
     let horizon = outer_horizon();
     let r_index = 1;
     let stops = vec![
@@ -183,7 +181,6 @@ pub fn run(args: &DemoArgs) -> Result<String, CliError> {
         runs: &runs,
         integration_time,
         evaluator: set.evaluator_name(),
-        preparation_time,
     };
     Ok(if args.format.json {
         json::to_text(&summary.to_json())
@@ -200,8 +197,6 @@ struct Summary<'a> {
     integration_time: std::time::Duration,
     /// `"native"` or `"tape"`.
     evaluator: &'static str,
-    /// Putting every kernel on tapes (and compiling it to machine code, when native).
-    preparation_time: std::time::Duration,
 }
 
 const KERNELS: [KernelKind; 4] = [
@@ -257,7 +252,6 @@ impl Summary<'_> {
             "derivation_ms": self.loaded.derivation_time.as_secs_f64() * 1e3,
             "integration_ms": self.integration_time.as_secs_f64() * 1e3,
             "evaluator": self.evaluator,
-            "preparation_ms": self.preparation_time.as_secs_f64() * 1e3,
             "horizon": self.horizon,
             "geodesics": geodesics,
         })
@@ -304,12 +298,9 @@ impl Summary<'_> {
             report::number(START[1], 6),
             report::duration(self.integration_time),
             if self.evaluator == "native" {
-                format!(
-                    "native kernels (compiled in {})",
-                    report::duration(self.preparation_time)
-                )
+                "native kernels (each compiled when first run, within that time)"
             } else {
-                "kernels on the tape".to_string()
+                "kernels on the tape"
             },
         );
         let rows: Vec<Vec<String>> = self

@@ -8,7 +8,7 @@ use serde_json::{Map, Value};
 use crate::args::EvalArgs;
 use crate::error::CliError;
 use crate::tape::Inputs;
-use crate::tape_metric::TapeSet;
+use crate::tape_metric::{Evaluator, TapeSet};
 use crate::{json, report, source};
 
 /// Significant digits in the text report (JSON carries every digit).
@@ -51,7 +51,12 @@ pub fn run(args: &EvalArgs) -> Result<String, CliError> {
         .as_deref()
         .map(|p| source::parse_vector("--p", p, &ks.coords))
         .transpose()?;
-    let set = TapeSet::with_evaluator(ks, &params, args.evaluator.evaluator)?;
+    // Each kernel runs once here: compiling it would cost more than interpreting it.
+    let evaluator = match args.evaluator.evaluator {
+        Evaluator::Auto => Evaluator::Tape,
+        chosen => chosen,
+    };
+    let set = TapeSet::with_evaluator(ks, &params, evaluator)?;
     let at = Inputs {
         x: &x,
         ..Inputs::default()
