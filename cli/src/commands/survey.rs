@@ -221,7 +221,8 @@ pub fn run(args: &SurveyArgs) -> Result<String, CliError> {
 /// Times a batch of geodesic-acceleration evaluations by `accel`, in ns per call, near
 /// radius `r`: at least 2000 calls and 20 ms, so that the clock's resolution does not show.
 fn time_accel(r: f64, mut accel: impl FnMut(&Inputs<'_>, &mut [f64])) -> f64 {
-    let mut out = vec![0.0; 16];
+    // A surveyed metric has four coordinates (t, r, θ, φ), as `x` below does.
+    let mut out = [0.0; 4];
     let u = [1.1, 0.01, 0.002, 0.03];
     let started = Instant::now();
     let mut calls = 0u64;
