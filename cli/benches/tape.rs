@@ -9,7 +9,7 @@ use geokern::MetricKernels;
 use geokern_cli::native::NativeKernel;
 use geokern_cli::source;
 use geokern_cli::tape::{Inputs, Tape};
-use geokern_cli::tape_metric::{TapeMetric, TapeSet};
+use geokern_cli::tape_metric::{Evaluator, TapeMetric, TapeSet};
 use geokern_symbolic::program::KernelKind;
 
 geokern::include_metric!("../examples/metrics/kerr_bl.gk");
@@ -119,6 +119,20 @@ fn bench(c: &mut Criterion) {
         ks_point,
         |x, _| ks.christoffel(x),
     );
+
+    // What the native evaluator costs up front: all nine kernels of a metric compiled.
+    let mut group = c.benchmark_group("native_compile_all_kernels");
+    group.sample_size(20);
+    for (name, text) in [bl_file, ks_file] {
+        let loaded = source::load_bytes(name, text.as_bytes(), None).expect("derives");
+        group.bench_function(name, |b| {
+            b.iter(|| {
+                TapeSet::with_evaluator(&loaded.kernels, &[1.0, 0.9], Evaluator::Native)
+                    .expect("compiles")
+            })
+        });
+    }
+    group.finish();
 
     // The runtime's trait driven through tapes (a register file per kernel, borrowed per call).
     let loaded = source::load_bytes(bl_file.0, KERR_BL.as_bytes(), None).expect("derives");

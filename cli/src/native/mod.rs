@@ -12,7 +12,8 @@
 //! [`NativeLanes`] compiles the same program for many points per call, in the layout of the
 //! [lane tape](crate::tape::lanes), two points per vector instruction.
 //!
-//! Compiling takes about a millisecond per kernel; the tape needs none. Hosts the code
+//! Compiling takes about a millisecond per kernel of a few hundred operations (the `tape` bench
+//! times a whole metric); the tape needs none. Hosts the code
 //! generator does not support are reported as [`NativeError::Host`], and the tool falls back
 //! to the tape.
 //!
