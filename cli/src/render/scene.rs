@@ -8,7 +8,7 @@ use geokern_symbolic::program::KernelKind;
 
 use crate::error::CliError;
 use crate::horizon::horizons;
-use crate::native::{NativeError, NativeLanes};
+use crate::native::NativeLanes;
 use crate::render::camera::Camera;
 use crate::render::tracer::LANES;
 use crate::tape::lanes::{LaneInputs, LaneProgram, LaneRegisters};
@@ -236,7 +236,8 @@ impl Scene {
         ) {
             (Evaluator::Tape, _) => None,
             (_, Ok(native)) => Some(native),
-            (Evaluator::Auto, Err(NativeError::Host(_))) => None,
+            // `auto` takes the lane tape whenever native code cannot be had.
+            (Evaluator::Auto, Err(_)) => None,
             (_, Err(e)) => return Err(e.into()),
         };
         let lane = |kind| {
