@@ -230,15 +230,14 @@ impl Scene {
             Equations::Hamilton => KernelKind::Hamilton,
             Equations::Accel => KernelKind::Accel,
         };
-        let native_rhs = match (
-            options.evaluator,
-            NativeLanes::compile(kernels.program(rhs_kind), kernels.params.len()),
-        ) {
-            (Evaluator::Tape, _) => None,
-            (_, Ok(native)) => Some(native),
-            // `auto` takes the lane tape whenever native code cannot be had.
-            (Evaluator::Auto, Err(_)) => None,
-            (_, Err(e)) => return Err(e.into()),
+        let native_rhs = match options.evaluator {
+            Evaluator::Tape => None,
+            chosen => match NativeLanes::compile(kernels.program(rhs_kind), kernels.params.len()) {
+                Ok(native) => Some(native),
+                // `auto` takes the lane tape whenever native code cannot be had.
+                Err(_) if chosen == Evaluator::Auto => None,
+                Err(e) => return Err(e.into()),
+            },
         };
         let lane = |kind| {
             LaneProgram::new(kernels.program(kind))
